@@ -1,0 +1,1 @@
+"""Commands that build and list the archive: ingest, inventory, demo."""

@@ -1,0 +1,41 @@
+"""Errors that degas reports to its users as one line, never as a traceback."""
+
+from __future__ import annotations
+
+
+class DegasError(Exception):
+    """Base class of every error meant for the user; ``str()`` is one line."""
+
+
+class InputError(DegasError):
+    """A problem with an input file: names the file, the line (1-based) and the problem."""
+
+    def __init__(self, source: str, problem: str, line: int | None = None, column: str | None = None):
+        self.source = source
+        self.problem = problem
+        self.line = line
+        self.column = column
+        where = source if line is None else f"{source}:{line}"
+        if column:
+            where += f" [{column}]"
+        super().__init__(f"{where}: {problem}")
+
+
+class UnitError(DegasError):
+    """A unit that is unknown, ambiguous or of the wrong dimension; lists accepted spellings."""
+
+
+class UnknownFormatError(DegasError):
+    """No reader recognises a file, or an unknown reader/kind name was asked for."""
+
+
+class NotEnoughDataError(DegasError):
+    """Too few (valid) samples for the analysis asked for."""
+
+
+class ArchiveError(DegasError):
+    """The archive is missing, locked by another writer, or inconsistent."""
+
+
+class ConfigError(DegasError):
+    """A mapping or configuration file that cannot be used."""

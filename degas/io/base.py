@@ -1,0 +1,104 @@
+"""What every reader takes and returns.
+
+A reader is a module in ``degas/io/`` with two functions and one registry line
+(see ``degas/io/__init__.py``): ``is_<fmt>(head: bytes, path: Path) -> bool`` looks at the
+first bytes and never raises, ``read_<fmt>(path: Path, options: ReadOptions) -> ReadResult``
+returns records in the canonical model (UTC, SI) plus every rejected row.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from pathlib import Path
+
+import pandas as pd
+
+from degas.model import Record
+
+REJECT_COLUMNS = ("file", "line", "column", "reason", "raw")
+
+
+@dataclass(frozen=True)
+class ReadOptions:
+    """Reader options; every field left as ``None`` is detected from the file.
+
+    Parameters
+    ----------
+    kind : one of degas.model.KINDS, or None to detect.
+    species : gas species (SO2, CO2, H2S) when the header does not say.
+    station : station / instrument id when the file has no station column.
+    columns : explicit column mapping, role -> header in the file. Roles: time, end, value,
+        uncertainty, quality, station, state, style, latitude, longitude, depth, magnitude,
+        magnitude_type, event_class, event_id.
+    units : role -> unit spelling, overriding units read from headers (e.g. {"value": "t/d"}).
+    timezone : IANA zone (or fixed offset like "+01:00") for naive timestamps; None = UTC, recorded.
+    dayfirst : read ambiguous dates such as 03/04/2024 as day first.
+    time_format : "iso", "excel" (serial days), "decimal_year", "unix" (seconds), or a strftime
+        pattern; None = detect.
+    class_map : local event-type code -> degas class (VT, LP, hybrid, rockfall, explosion, tremor, other).
+    vesicularity : void fraction (0-1) for bulk -> DRE volume conversion.
+    bulk_density, dense_density : kg/m³, the alternative bulk -> DRE conversion.
+    volume_basis : "dre" or "bulk" when the header does not say.
+    allow_negative : keep negative fluxes/rates instead of rejecting them.
+    magnitude_type : magnitude type for catalogues whose file does not give one.
+    """
+
+    kind: str | None = None
+    species: str | None = None
+    station: str | None = None
+    columns: dict[str, str] = field(default_factory=dict)
+    units: dict[str, str] = field(default_factory=dict)
+    timezone: str | None = None
+    dayfirst: bool = False
+    time_format: str | None = None
+    class_map: dict[str, str] = field(default_factory=dict)
+    vesicularity: float | None = None
+    bulk_density: float | None = None
+    dense_density: float | None = None
+    volume_basis: str | None = None
+    allow_negative: bool = False
+    magnitude_type: str | None = None
+
+    def as_pairs(self) -> tuple[tuple[str, str], ...]:
+        """Options that were actually set, as (name, text) pairs for provenance."""
+        out = []
+        for name, value in self.__dict__.items():
+            if value in (None, False, {}, ""):
+                continue
+            out.append((name, str(value)))
+        return tuple(out)
+
+
+@dataclass
+class ReadResult:
+    """What a reader returns: records, rejected rows (file, line, column, reason, raw), notes."""
+
+    records: list[Record]
+    rejects: pd.DataFrame
+    notes: list[str] = field(default_factory=list)
+
+    @property
+    def n_rejected(self) -> int:
+        return len(self.rejects)
+
+
+def empty_rejects() -> pd.DataFrame:
+    return pd.DataFrame({c: pd.Series([], dtype="object") for c in REJECT_COLUMNS})
+
+
+def rejects_frame(rows: list[tuple]) -> pd.DataFrame:
+    """Build a rejects table from (file, line, column, reason, raw) tuples."""
+    if not rows:
+        return empty_rejects()
+    return pd.DataFrame(rows, columns=list(REJECT_COLUMNS))
+
+
+def file_sha256(path: Path) -> str:
+    """SHA-256 of a file, read in 1 MiB blocks."""
+    import hashlib
+
+    h = hashlib.sha256()
+    with open(path, "rb") as fh:
+        for block in iter(lambda: fh.read(1 << 20), b""):
+            h.update(block)
+    return h.hexdigest()

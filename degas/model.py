@@ -1,0 +1,289 @@
+"""The canonical data model: every input, whatever its source, ends up as one of these.
+
+* :class:`TimeSeries` - sampled values (gas flux, gas ratio, extrusion rate, cumulative
+  erupted volume, continuous amplitude, anything numeric). Columns:
+  ``time`` (datetime64[ns, UTC]; the start of the interval for interval-valued rows),
+  ``end`` (datetime64[ns, UTC], NaT for point samples), ``value`` (float64, canonical SI unit),
+  ``uncertainty`` (float64, same unit, NaN if unknown), ``quality`` (string flag or <NA>).
+* :class:`Chronology` - eruption phases and pauses as intervals. Columns: ``start``, ``end``
+  (NaT = still open), ``state`` (eruptive / pause / unknown), ``style``
+  (effusive / explosive / mixed / unknown), ``note``.
+* :class:`EventCatalog` - seismic events. Columns: ``time``, ``latitude_deg``,
+  ``longitude_deg``, ``depth_m`` (positive down), ``magnitude``, ``magnitude_type``,
+  ``event_class`` (see :data:`EVENT_CLASSES`), ``event_id``, ``source_type`` (the
+  label in the file, before mapping).
+
+Each carries :class:`SeriesMeta` (what it is) and a tuple of :class:`Provenance`
+(where every part came from). Objects are frozen; functions return new ones.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import re
+from dataclasses import dataclass, field
+from typing import ClassVar
+
+import numpy as np
+import pandas as pd
+
+from degas.errors import DegasError
+
+KINDS: tuple[str, ...] = (
+    "gas_flux",
+    "gas_ratio",
+    "extrusion_rate",
+    "erupted_volume",
+    "chronology",
+    "seismic_catalog",
+    "amplitude",
+    "other",
+)
+
+#: Canonical (stored) unit per kind, as pint spellings. ``None``: the file's own unit is kept.
+CANONICAL_UNIT: dict[str, str | None] = {
+    "gas_flux": "kg/s",
+    "gas_ratio": "mol/mol",
+    "extrusion_rate": "m^3/s",
+    "erupted_volume": "m^3",
+    "chronology": None,
+    "seismic_catalog": None,
+    "amplitude": None,
+    "other": None,
+}
+
+#: Unit shown to people, per kind.
+DISPLAY_UNIT: dict[str, str | None] = {
+    "gas_flux": "t/d",
+    "gas_ratio": "mol/mol",
+    "extrusion_rate": "m³/s",
+    "erupted_volume": "m³",
+    "chronology": None,
+    "seismic_catalog": None,
+    "amplitude": None,
+    "other": None,
+}
+
+#: Event classes of volcano seismology (volcano-tectonic, long-period, ...).
+EVENT_CLASSES: tuple[str, ...] = ("VT", "LP", "hybrid", "rockfall", "explosion", "tremor", "other")
+ERUPTIVE_STATES: tuple[str, ...] = ("eruptive", "pause", "unknown")
+ERUPTIVE_STYLES: tuple[str, ...] = ("effusive", "explosive", "mixed", "unknown")
+GAS_SPECIES: tuple[str, ...] = ("SO2", "CO2", "H2S", "H2O", "HCl", "HF")
+VOLUME_BASES: tuple[str, ...] = ("dre", "bulk")
+
+SERIES_COLUMNS = ("time", "end", "value", "uncertainty", "quality")
+CHRONOLOGY_COLUMNS = ("start", "end", "state", "style", "note")
+CATALOG_COLUMNS = (
+    "time",
+    "latitude_deg",
+    "longitude_deg",
+    "depth_m",
+    "magnitude",
+    "magnitude_type",
+    "event_class",
+    "event_id",
+    "source_type",
+)
+
+
+@dataclass(frozen=True)
+class Provenance:
+    """Where (part of) a record came from.
+
+    ``assumptions`` lists everything the reader had to assume (e.g. "naive times taken as UTC").
+    """
+
+    source_name: str
+    sha256: str
+    reader: str
+    rows_accepted: int
+    rows_rejected: int
+    original_unit: str | None = None
+    assumptions: tuple[str, ...] = ()
+    ingested_at: str | None = None
+    options: tuple[tuple[str, str], ...] = ()
+
+    def to_dict(self) -> dict:
+        d = dataclasses.asdict(self)
+        d["assumptions"] = list(self.assumptions)
+        d["options"] = [list(o) for o in self.options]
+        return d
+
+    @classmethod
+    def from_dict(cls, d: dict) -> Provenance:
+        d = dict(d)
+        d["assumptions"] = tuple(d.get("assumptions", ()))
+        d["options"] = tuple(tuple(o) for o in d.get("options", ()))
+        return cls(**d)
+
+
+@dataclass(frozen=True)
+class SeriesMeta:
+    """What a record is.
+
+    ``quantity`` is a short snake-case name such as ``so2_flux`` or ``co2_so2_ratio``;
+    ``unit`` is the stored (canonical) unit; ``volume_basis`` is ``dre`` or ``bulk`` for
+    volumes and extrusion rates (``bulk`` means not yet converted, and says so).
+    """
+
+    kind: str
+    quantity: str
+    station: str | None = None
+    species: str | None = None
+    unit: str | None = None
+    display_unit: str | None = None
+    volume_basis: str | None = None
+    description: str | None = None
+
+    def __post_init__(self) -> None:
+        if self.kind not in KINDS:
+            raise DegasError(f"unknown kind {self.kind!r}; valid kinds: {', '.join(KINDS)}")
+        if self.volume_basis is not None and self.volume_basis not in VOLUME_BASES:
+            raise DegasError(f"unknown volume basis {self.volume_basis!r}; valid: dre, bulk")
+
+    @property
+    def series_id(self) -> str:
+        """Stable identifier used as the archive key: ``kind.quantity.station``."""
+        parts = [self.kind, self.quantity, self.station or "all"]
+        return ".".join(_slug(p) for p in parts)
+
+    def to_dict(self) -> dict:
+        return dataclasses.asdict(self)
+
+    @classmethod
+    def from_dict(cls, d: dict) -> SeriesMeta:
+        names = {f.name for f in dataclasses.fields(cls)}
+        return cls(**{k: v for k, v in d.items() if k in names})
+
+
+def _slug(text: str) -> str:
+    s = re.sub(r"[^A-Za-z0-9_-]+", "-", str(text)).strip("-")
+    return s or "x"
+
+
+@dataclass(frozen=True)
+class _Record:
+    """Common part of the three record types: a tidy table plus metadata and provenance."""
+
+    data: pd.DataFrame
+    meta: SeriesMeta
+    provenance: tuple[Provenance, ...] = field(default=())
+
+    COLUMNS: ClassVar[tuple[str, ...]] = ()
+    TIME_COLUMN: ClassVar[str] = "time"
+
+    def __post_init__(self) -> None:
+        missing = [c for c in self.COLUMNS if c not in self.data.columns]
+        if missing:
+            raise DegasError(f"{type(self).__name__} table lacks columns {missing}")
+        t = self.data[self.TIME_COLUMN]
+        if not isinstance(t.dtype, pd.DatetimeTZDtype) or str(t.dt.tz) != "UTC":
+            raise DegasError(f"{type(self).__name__}.{self.TIME_COLUMN} must be tz-aware UTC, got {t.dtype}")
+
+    def __len__(self) -> int:
+        return len(self.data)
+
+    @property
+    def span(self) -> tuple[pd.Timestamp | None, pd.Timestamp | None]:
+        """First and last time (UTC), or (None, None) when empty."""
+        t = self.data[self.TIME_COLUMN]
+        if t.empty:
+            return None, None
+        last = t.max()
+        if "end" in self.data.columns and self.data["end"].notna().any():
+            last = max(last, self.data["end"].max())
+        return t.min(), last
+
+    def with_data(self, data: pd.DataFrame):
+        return dataclasses.replace(self, data=data)
+
+
+@dataclass(frozen=True)
+class TimeSeries(_Record):
+    """Sampled values in the canonical SI unit of their kind (see module docstring)."""
+
+    COLUMNS: ClassVar[tuple[str, ...]] = SERIES_COLUMNS
+
+    @property
+    def is_interval(self) -> bool:
+        """True when rows are values over intervals [time, end) rather than point samples."""
+        return bool(self.data["end"].notna().any())
+
+    def values_in(self, unit: str) -> np.ndarray:
+        """Values converted to ``unit`` (e.g. ``"t/d"``) for display."""
+        from degas.units import conversion_factor
+
+        if self.meta.unit is None:
+            return self.data["value"].to_numpy()
+        return self.data["value"].to_numpy() * conversion_factor(self.meta.unit, unit)
+
+
+@dataclass(frozen=True)
+class Chronology(_Record):
+    """Eruptive phases and pauses as [start, end) intervals; end NaT means still open."""
+
+    COLUMNS: ClassVar[tuple[str, ...]] = CHRONOLOGY_COLUMNS
+    TIME_COLUMN: ClassVar[str] = "start"
+
+
+@dataclass(frozen=True)
+class EventCatalog(_Record):
+    """Seismic events; depth in metres positive down, magnitude with its type kept."""
+
+    COLUMNS: ClassVar[tuple[str, ...]] = CATALOG_COLUMNS
+
+
+Record = TimeSeries | Chronology | EventCatalog
+
+RECORD_TYPE_FOR_KIND: dict[str, type] = {
+    "chronology": Chronology,
+    "seismic_catalog": EventCatalog,
+}
+
+
+def record_type(kind: str) -> type:
+    """The record class that holds a kind."""
+    return RECORD_TYPE_FOR_KIND.get(kind, TimeSeries)
+
+
+def empty_series_frame() -> pd.DataFrame:
+    """An empty TimeSeries table with the canonical dtypes."""
+    return pd.DataFrame(
+        {
+            "time": pd.Series([], dtype="datetime64[ns, UTC]"),
+            "end": pd.Series([], dtype="datetime64[ns, UTC]"),
+            "value": pd.Series([], dtype="float64"),
+            "uncertainty": pd.Series([], dtype="float64"),
+            "quality": pd.Series([], dtype="string"),
+        }
+    )
+
+
+def make_series(
+    meta: SeriesMeta,
+    time,
+    value,
+    *,
+    end=None,
+    uncertainty=None,
+    quality=None,
+    provenance: tuple[Provenance, ...] = (),
+) -> TimeSeries:
+    """Build a TimeSeries from array-likes already in UTC and the canonical unit."""
+    n = len(value)
+    t = pd.to_datetime(pd.Series(time), utc=True).astype("datetime64[ns, UTC]").reset_index(drop=True)
+    e = (
+        pd.Series(pd.NaT, index=range(n), dtype="datetime64[ns, UTC]")
+        if end is None
+        else pd.to_datetime(pd.Series(end), utc=True).astype("datetime64[ns, UTC]").reset_index(drop=True)
+    )
+    df = pd.DataFrame(
+        {
+            "time": t,
+            "end": e,
+            "value": np.asarray(value, dtype="float64"),
+            "uncertainty": np.full(n, np.nan) if uncertainty is None else np.asarray(uncertainty, dtype="float64"),
+            "quality": pd.Series([pd.NA] * n if quality is None else list(quality), dtype="string"),
+        }
+    )
+    return TimeSeries(df, meta, tuple(provenance))
