@@ -2,8 +2,6 @@
 
 from __future__ import annotations
 
-import sys
-
 import typer
 from rich.console import Console
 
@@ -16,30 +14,21 @@ app = typer.Typer(
     add_completion=False,
     pretty_exceptions_enable=False,
 )
-console = Console(highlight=False)
-err_console = Console(stderr=True, highlight=False)
+console = Console(highlight=False, soft_wrap=True)
+err_console = Console(stderr=True, highlight=False, soft_wrap=True)
 
 
 def run(argv: list[str] | None = None) -> int:
-    """Run the app; turn DegasError (and bad files) into a one-line message and exit code 2."""
+    """Run the app; DegasError becomes a one-line message and exit code 2, never a traceback."""
     try:
-        app(args=argv, standalone_mode=False)
+        app(args=argv, prog_name="degas")
+    except SystemExit as exc:
+        code = exc.code
+        return code if isinstance(code, int) else (0 if code is None else 1)
     except DegasError as exc:
         err_console.print(f"degas: error: {exc}", markup=False)
         return 2
-    except typer.Exit as exc:
-        return int(exc.exit_code or 0)
-    except typer.Abort:
-        err_console.print("degas: aborted", markup=False)
-        return 130
     except KeyboardInterrupt:
-        err_console.print("degas: interrupted; the archive is unchanged unless a write had completed", markup=False)
+        err_console.print("degas: interrupted; the archive keeps its last completed write", markup=False)
         return 130
-    except Exception as exc:  # click usage errors and the like
-        import click
-
-        if isinstance(exc, click.exceptions.ClickException):
-            exc.show(file=sys.stderr)
-            return exc.exit_code
-        raise
     return 0

@@ -1,1 +1,178 @@
 """Commands that build and list the archive: ingest, inventory, demo."""
+
+from __future__ import annotations
+
+import json
+import shutil
+from pathlib import Path
+
+import typer
+from rich.progress import BarColumn, Progress, TextColumn, TimeElapsedColumn
+from rich.table import Table
+
+from degas.cli._app import app, console, err_console
+from degas.errors import DegasError
+from degas.io.base import ReadOptions
+from degas.io.mapping import load_mapping, load_toml, merge_options, options_from_dict
+from degas.store import Archive, FileReport, entry_display
+
+
+def _progress() -> Progress:
+    return Progress(TextColumn("{task.description}"), BarColumn(), TextColumn("{task.completed}/{task.total}"),
+                    TimeElapsedColumn(), console=err_console, transient=True)
+
+
+def _print_report(rep: FileReport, show_rejects: int) -> None:
+    console.print(rep.summary(), markup=False)
+    for note in rep.notes:
+        console.print(f"  note: {note}", markup=False)
+    if rep.rejects is not None and len(rep.rejects) and show_rejects:
+        for row in rep.rejects.head(show_rejects).itertuples(index=False):
+            where = f"{row.file}:{row.line}" if row.line is not None and str(row.line) != "nan" else f"{row.file}"
+            col = f" [{row.column}]" if isinstance(row.column, str) and row.column else ""
+            console.print(f"  rejected {where}{col}: {row.reason}", markup=False)
+        if len(rep.rejects) > show_rejects:
+            console.print(f"  ... {len(rep.rejects) - show_rejects} more rejected rows (see the archive's rejects/)",
+                          markup=False)
+
+
+def ingest_files(archive: Archive, items: list[tuple[Path, ReadOptions, str | None]], *, accept_conflicts: bool,
+                 show_rejects: int) -> list[FileReport]:
+    """Ingest several files one transaction each, with a progress bar; print a line per file."""
+    reports = []
+    with _progress() as bar:
+        task = bar.add_task("ingesting", total=len(items))
+        for path, options, fmt in items:
+            bar.update(task, description=f"ingesting {path.name}")
+            rep = archive.ingest_file(path, options, format=fmt, accept_conflicts=accept_conflicts)
+            reports.append(rep)
+            bar.advance(task)
+            _print_report(rep, show_rejects)
+    return reports
+
+
+@app.command("ingest")
+def ingest(
+    files: list[Path] = typer.Argument(..., help="Files to ingest (CSV/TSV/semicolon text, .xlsx, Parquet, "
+                                                  "QuakeML, FDSN event text)."),
+    into: Path = typer.Option(..., "--into", help="Archive directory (created when missing)."),
+    kind: str | None = typer.Option(None, help="gas_flux, gas_ratio, extrusion_rate, erupted_volume, chronology, "
+                                               "seismic_catalog, amplitude, other (default: detect)."),
+    species: str | None = typer.Option(None, help="Gas species when the header does not say (SO2, CO2, H2S)."),
+    station: str | None = typer.Option(None, help="Station / instrument id when the file has no station column."),
+    mapping: Path | None = typer.Option(None, "--map", help="TOML mapping file (columns, units, options)."),
+    time_col: str | None = typer.Option(None, help="Header of the time column."),
+    value_col: str | None = typer.Option(None, help="Header of the value column."),
+    unit: str | None = typer.Option(None, help="Unit of the value column, e.g. 't/d', 'kg/s', 'm3/s'."),
+    tz: str | None = typer.Option(None, "--tz", help="Time zone of naive timestamps (default: UTC, recorded)."),
+    dayfirst: bool = typer.Option(False, help="Read 03/04/2024 as 3 April."),
+    time_format: str | None = typer.Option(None, help="iso, excel, decimal_year, unix or a strftime pattern."),
+    vesicularity: float | None = typer.Option(None, help="Void fraction (0-1) for bulk -> DRE volumes."),
+    bulk_density: float | None = typer.Option(None, help="Bulk density (kg/m³) for bulk -> DRE volumes."),
+    dense_density: float | None = typer.Option(None, help="Dense-rock density (kg/m³) for bulk -> DRE volumes."),
+    allow_negative: bool = typer.Option(False, help="Keep negative fluxes/rates instead of rejecting them."),
+    accept_conflicts: bool = typer.Option(False, help="Let new values replace conflicting stored ones."),
+    fmt: str | None = typer.Option(None, "--format", help="Force a reader (see 'degas formats')."),
+    show_rejects: int = typer.Option(5, help="How many rejected rows to print per file."),
+) -> None:
+    """Read monitoring exports into the archive (UTC, SI units, provenance); report every rejected row."""
+    base = load_mapping(mapping) if mapping else ReadOptions()
+    if kind is not None:
+        options_from_dict({"kind": kind}, "--kind")  # validates the name before anything is read
+    columns = {k: v for k, v in (("time", time_col), ("value", value_col)) if v}
+    options = merge_options(
+        base, kind=kind, species=species, station=station, columns=columns, units={"value": unit} if unit else None,
+        timezone=tz, dayfirst=dayfirst or None, time_format=time_format, vesicularity=vesicularity,
+        bulk_density=bulk_density, dense_density=dense_density, allow_negative=allow_negative or None,
+    )
+    archive = Archive.create(into)
+    failed = 0
+    for f in files:
+        try:
+            ingest_files(archive, [(f, options, fmt)], accept_conflicts=accept_conflicts, show_rejects=show_rejects)
+        except DegasError as exc:
+            failed += 1
+            err_console.print(f"degas: error: {exc}", markup=False)
+    if failed:
+        err_console.print(f"degas: {failed} of {len(files)} file(s) not ingested; the archive keeps everything "
+                          "stored before", markup=False)
+        raise typer.Exit(2)
+
+
+@app.command("inventory")
+def inventory(
+    archive_dir: Path = typer.Argument(..., help="Archive directory."),
+    as_json: bool = typer.Option(False, "--json", help="Print JSON instead of a table."),
+) -> None:
+    """List every stored series: kind, quantity, station, time span, count, largest gap, units, sources."""
+    print_inventory(Archive.open(archive_dir), as_json=as_json)
+
+
+def print_inventory(archive: Archive, *, as_json: bool = False) -> None:
+    rows = [entry_display(e) for e in archive.entries()]
+    if as_json:
+        console.print_json(json.dumps(rows))
+        return
+    table = Table(title=f"degas archive {archive.root}", show_lines=False)
+    for col in ("series", "kind", "station", "first", "last", "count", "largest gap", "unit", "sources"):
+        table.add_column(col, overflow="fold")
+    for r in rows:
+        gap = "" if r["largest_gap_days"] is None else f"{r['largest_gap_days']:.1f} d"
+        unit = r["unit"] + (f" ({r['basis']})" if r["basis"] else "")
+        table.add_row(r["series"], r["kind"], r["station"], (r["first"] or "")[:16], (r["last"] or "")[:16],
+                      str(r["count"]), gap, unit, ", ".join(r["sources"]))
+    console.print(table)
+    n_rej = len(archive.rejects())
+    console.print(f"{len(rows)} series from {len(archive.sources())} file(s); {n_rej} rejected row(s) on record",
+                  markup=False)
+
+
+@app.command("formats")
+def formats() -> None:
+    """List the readers degas has, in detection order."""
+    from degas.io import FORMATS
+
+    for f in FORMATS:
+        console.print(f"{f.name:28s} {', '.join(f.kinds)}", markup=False)
+
+
+def demo_source_dir() -> Path:
+    """demo_series/ of the working directory or the repository; generated on the fly when missing."""
+    for cand in (Path.cwd() / "demo_series", Path(__file__).resolve().parents[2] / "demo_series"):
+        if (cand / "demo_ingest.toml").exists():
+            return cand
+    from degas.demo import write_demo
+
+    out = Path.cwd() / "demo_series"
+    write_demo(out)
+    return out
+
+
+def build_demo_archive(src: Path, archive_dir: Path) -> Archive:
+    """A fresh archive from the demo files, with the per-file options of demo_ingest.toml."""
+    if archive_dir.exists():
+        if (archive_dir / "manifest.json").exists():
+            shutil.rmtree(archive_dir)
+        elif any(archive_dir.iterdir()):
+            raise DegasError(f"{archive_dir}: exists and is not a degas archive; choose another --archive")
+    plan = load_toml(src / "demo_ingest.toml").get("file", [])
+    items = []
+    for i, entry in enumerate(plan):
+        entry = dict(entry)
+        path = src / entry.pop("path")
+        fmt = entry.pop("format", None)
+        items.append((path, options_from_dict(entry, f"demo_ingest.toml file #{i + 1}"), fmt))
+    archive = Archive.create(archive_dir)
+    ingest_files(archive, items, accept_conflicts=False, show_rejects=0)
+    return archive
+
+
+@app.command("demo")
+def demo(
+    archive_dir: Path = typer.Option(Path("reports/demo-archive"), "--archive", help="Where to build the archive."),
+) -> None:
+    """Run the main job on the bundled invented volcano: ingest demo_series/ and show the inventory."""
+    src = demo_source_dir()
+    console.print(f"demo data: {src}", markup=False)
+    archive = build_demo_archive(src, archive_dir)
+    print_inventory(archive)

@@ -1,0 +1,91 @@
+"""Reader options from a TOML mapping file (or a table of one), overriding detection.
+
+A mapping file holds the fields of :class:`~degas.io.base.ReadOptions` at top level::
+
+    kind = "gas_flux"
+    species = "SO2"
+    station = "VLM-S"
+    timezone = "UTC"
+    dayfirst = true
+    [columns]           # role = "header in the file"
+    time = "fecha_hora"
+    value = "SO2_kg_s"
+    [units]             # role = "unit"
+    value = "kg/s"
+    [class_map]         # local event code = class
+    "Hyb" = "hybrid"
+
+A project file may hold several as ``[[file]]`` tables, each with a ``path``.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import tomllib
+from pathlib import Path
+
+from degas.errors import ConfigError
+from degas.io.base import ReadOptions
+from degas.io.columns import ROLES
+from degas.model import EVENT_CLASSES, KINDS
+
+_FIELDS = {f.name for f in dataclasses.fields(ReadOptions)}
+_DICT_FIELDS = {"columns", "units", "class_map"}
+
+
+def options_from_dict(d: dict, where: str = "mapping") -> ReadOptions:
+    """Validate a dict of option values and build ReadOptions; unknown keys are an error."""
+    unknown = sorted(set(d) - _FIELDS - {"path", "format"})
+    if unknown:
+        raise ConfigError(f"{where}: unknown option(s) {unknown}; valid: {', '.join(sorted(_FIELDS | {'path', 'format'}))}")
+    clean = {k: v for k, v in d.items() if k in _FIELDS}
+    for k in _DICT_FIELDS & set(clean):
+        if not isinstance(clean[k], dict):
+            raise ConfigError(f"{where}: [{k}] must be a table")
+        clean[k] = {str(a): str(b) for a, b in clean[k].items()}
+    if "kind" in clean and clean["kind"] not in KINDS:
+        raise ConfigError(f"{where}: unknown kind {clean['kind']!r}; valid kinds: {', '.join(KINDS)}")
+    bad_roles = sorted(set(clean.get("columns", {})) - set(ROLES))
+    if bad_roles:
+        raise ConfigError(f"{where}: unknown column role(s) {bad_roles}; valid roles: {', '.join(ROLES)}")
+    bad_cls = sorted({v for v in clean.get("class_map", {}).values() if v not in EVENT_CLASSES})
+    if bad_cls:
+        raise ConfigError(f"{where}: unknown event class(es) {bad_cls}; valid: {', '.join(EVENT_CLASSES)}")
+    for k in ("vesicularity", "bulk_density", "dense_density"):
+        if k in clean:
+            try:
+                clean[k] = float(clean[k])
+            except (TypeError, ValueError):
+                raise ConfigError(f"{where}: {k} must be a number") from None
+    try:
+        return ReadOptions(**clean)
+    except TypeError as exc:
+        raise ConfigError(f"{where}: {exc}") from None
+
+
+def load_toml(path: str | Path) -> dict:
+    path = Path(path)
+    try:
+        return tomllib.loads(path.read_text(encoding="utf-8"))
+    except FileNotFoundError:
+        raise ConfigError(f"{path}: mapping file not found") from None
+    except tomllib.TOMLDecodeError as exc:
+        raise ConfigError(f"{path}: not valid TOML ({exc})") from None
+
+
+def load_mapping(path: str | Path) -> ReadOptions:
+    """ReadOptions from a single-file mapping TOML."""
+    return options_from_dict(load_toml(path), str(path))
+
+
+def merge_options(base: ReadOptions, **overrides) -> ReadOptions:
+    """``base`` with every override that is not None (dict overrides are merged key by key)."""
+    changes = {}
+    for k, v in overrides.items():
+        if v is None or v == {}:
+            continue
+        if k in _DICT_FIELDS:
+            changes[k] = {**getattr(base, k), **v}
+        else:
+            changes[k] = v
+    return dataclasses.replace(base, **changes)

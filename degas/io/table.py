@@ -1,0 +1,880 @@
+"""Tabular exports (CSV, TSV, semicolon, pipe; Excel .xlsx; Parquet) -> canonical records.
+
+One reader serves every tabular kind (gas flux, gas ratio, extrusion rate, erupted volume,
+amplitude/other series, eruption chronology, seismic catalogue): the kind is told
+(``ReadOptions.kind``) or detected from the headers. Every row that cannot be used is
+reported in the rejects table with its file line; nothing is dropped silently.
+
+Preamble lines before the header ("# station: VLM-N", "# vesicularity: 0.15") are read as
+metadata; keys understood: station, species, kind, timezone/times, vesicularity,
+bulk density, dense density, volume basis, magnitude type.
+"""
+
+from __future__ import annotations
+
+import codecs
+import csv
+import hashlib
+import re
+from dataclasses import dataclass, field
+from pathlib import Path
+
+import numpy as np
+import pandas as pd
+
+from degas.errors import InputError, UnitError
+from degas.io.base import ReadOptions, ReadResult, file_sha256, rejects_frame
+from degas.io.columns import (
+    MAGNITUDE_TYPE_HEADERS,
+    Header,
+    guess_kind,
+    match_role,
+    species_in,
+    split_header,
+    volume_basis_in,
+)
+from degas.io.timeparse import parse_times
+from degas.model import (
+    CANONICAL_UNIT,
+    DISPLAY_UNIT,
+    ERUPTIVE_STATES,
+    ERUPTIVE_STYLES,
+    KINDS,
+    Chronology,
+    EventCatalog,
+    Provenance,
+    SeriesMeta,
+    TimeSeries,
+)
+from degas.units import conversion_factor
+
+HEAD_BYTES = 64 * 1024
+MISSING_CODES = (-999.0, -9999.0, -99999.0, 9999.0, 99999.0)
+SERIES_KINDS = ("gas_flux", "gas_ratio", "extrusion_rate", "erupted_volume", "amplitude", "other")
+NONNEGATIVE_KINDS = ("gas_flux", "extrusion_rate", "erupted_volume")
+
+
+# --------------------------------------------------------------------------- detection
+
+
+def is_delimited(head: bytes, path: Path) -> bool:
+    """Loose check: decodable text whose first non-comment line has a delimiter."""
+    if b"\x00" in head[:4096] or not head.strip():
+        return False
+    try:
+        text = _decode(head)
+    except UnicodeDecodeError:
+        return False
+    if text.lstrip().startswith("<"):
+        return False
+    lines = [ln for ln in text.splitlines() if ln.strip() and not ln.lstrip().startswith("#")]
+    if not lines:  # only comments: let the reader say so
+        return True
+    return any(d in lines[0] for d in (",", ";", "\t", "|"))
+
+
+def is_excel(head: bytes, path: Path) -> bool:
+    return head[:4] == b"PK\x03\x04" and path.suffix.lower() in (".xlsx", ".xlsm")
+
+
+def is_parquet(head: bytes, path: Path) -> bool:
+    return head[:4] == b"PAR1"
+
+
+# --------------------------------------------------------------------------- raw loading
+
+
+@dataclass
+class RawTable:
+    """Cells as read, before any interpretation."""
+
+    frame: pd.DataFrame
+    headers: list[str]
+    lines: np.ndarray  # file line (1-based; Excel row; Parquet row) of each frame row
+    meta: dict[str, str] = field(default_factory=dict)
+    rejects: list[tuple] = field(default_factory=list)
+    line_label: str = "line"
+
+
+def _decode(data: bytes) -> str:
+    if data.startswith(codecs.BOM_UTF8):
+        return data[len(codecs.BOM_UTF8):].decode("utf-8")
+    try:
+        return data.decode("utf-8")
+    except UnicodeDecodeError as exc:
+        if exc.start >= len(data) - 4:  # cut in the middle of a character at the end of the head
+            return data[: exc.start].decode("utf-8")
+        raise
+
+
+_META = re.compile(r"^\s*#+\s*([A-Za-z][A-Za-z0-9 _/\-]*?)\s*[:=]\s*(.+?)\s*$")
+
+
+def _sniff(path: Path) -> tuple[str, int, dict[str, str], str]:
+    """Encoding, number of preamble lines, preamble metadata and delimiter."""
+    with open(path, "rb") as fh:
+        head = fh.read(HEAD_BYTES)
+    if not head.strip():
+        raise InputError(path.name, "empty file")
+    if b"\x00" in head[:4096]:
+        raise InputError(path.name, "binary data, not a text table (wrong file?)")
+    try:
+        text = _decode(head)
+        encoding = "utf-8-sig" if head.startswith(codecs.BOM_UTF8) else "utf-8"
+    except UnicodeDecodeError:
+        text = head.decode("latin-1")
+        encoding = "latin-1"
+        if sum(ch < " " and ch not in "\r\n\t" for ch in text[:4096]) > 8:
+            raise InputError(path.name, "binary data, not a text table (wrong file?)") from None
+    lines = text.splitlines()
+    meta: dict[str, str] = {}
+    n_pre = 0
+    for ln in lines:
+        if ln.strip() == "" or ln.lstrip().startswith("#"):
+            m = _META.match(ln)
+            if m:
+                meta[m.group(1).strip().lower()] = m.group(2)
+            n_pre += 1
+            continue
+        break
+    if n_pre >= len(lines):
+        raise InputError(path.name, "no header or data lines (only comments)")
+    header_line = lines[n_pre]
+    counts = {d: header_line.count(d) for d in (",", ";", "\t", "|")}
+    delim = max(counts, key=counts.get)
+    if counts[delim] == 0:
+        raise InputError(path.name, "no column delimiter (, ; tab |) in the header line", line=n_pre + 1)
+    return encoding, n_pre, meta, delim
+
+
+def load_delimited(path: Path) -> RawTable:
+    """Read a delimited text file as strings, keeping the file line of every row."""
+    import pyarrow as pa
+    import pyarrow.csv as pcsv
+
+    encoding, n_pre, meta, delim = _sniff(path)
+    bad: list[tuple[int, str]] = []
+
+    def on_invalid(row) -> str:
+        text = row.text or ""
+        if text.strip() and not text.lstrip().startswith("#"):
+            bad.append((row.number, text))
+        return "skip"
+
+    with open(path, "rb") as fh:
+        for _ in range(n_pre):
+            fh.readline()
+        header_bytes = fh.readline()
+    header = next(csv.reader([header_bytes.decode(encoding, errors="replace").rstrip("\r\n")], delimiter=delim))
+    header = [h.strip() for h in header]
+    while header and header[-1] == "":
+        header.pop()
+    if len(set(header)) != len(header):
+        dup = sorted({h for h in header if header.count(h) > 1})
+        raise InputError(path.name, f"duplicate column names {dup}", line=n_pre + 1)
+    names = header + [f"__extra{i}" for i in range(64)]
+    try:
+        table = pcsv.read_csv(
+            path,
+            read_options=pcsv.ReadOptions(
+                skip_rows=n_pre + 1, column_names=header, use_threads=False, encoding=encoding,
+                block_size=1 << 24,
+            ),
+            parse_options=pcsv.ParseOptions(delimiter=delim, invalid_row_handler=on_invalid,
+                                            ignore_empty_lines=False),
+            convert_options=pcsv.ConvertOptions(
+                column_types={h: pa.string() for h in header}, strings_can_be_null=False,
+                quoted_strings_can_be_null=False,
+            ),
+        )
+    except pa.ArrowInvalid as exc:
+        raise InputError(path.name, f"cannot read as a delimited table: {str(exc).splitlines()[0]}") from None
+    del names
+    first_data_line = n_pre + 2
+    n = table.num_rows
+    if bad:
+        bad_lines = np.array(sorted(b[0] for b in bad if b[0] is not None), dtype="int64")
+        all_lines = np.arange(first_data_line, first_data_line + n + len(bad), dtype="int64")
+        lines = np.setdiff1d(all_lines, bad_lines, assume_unique=True)[:n]
+    else:
+        lines = np.arange(first_data_line, first_data_line + n, dtype="int64")
+    frame = table.to_pandas()
+    rejects = [
+        (path.name, num, None, f"wrong number of fields (expected {len(header)})",
+         text[:200])
+        for num, text in bad
+    ]
+    # drop blank lines (all cells empty) silently: they are not data
+    if len(frame):
+        blank = np.ones(len(frame), dtype=bool)
+        for c in frame.columns:
+            blank &= (frame[c].str.strip() == "").to_numpy()
+        if blank.any():
+            frame = frame.loc[~blank].reset_index(drop=True)
+            lines = lines[~blank]
+    return RawTable(frame, header, lines, meta, rejects)
+
+
+def load_excel(path: Path, sheet: str | int | None = None) -> RawTable:
+    """Read the first sheet (or ``sheet``) of an .xlsx workbook; rows above the header are metadata."""
+    try:
+        grid = pd.read_excel(path, sheet_name=sheet if sheet is not None else 0, header=None, dtype=object)
+    except Exception as exc:  # openpyxl raises many types for broken files
+        raise InputError(path.name, f"cannot read as an Excel workbook: {exc}") from None
+    if grid.empty:
+        raise InputError(path.name, "empty workbook sheet")
+    meta: dict[str, str] = {}
+    header_row = None
+    for i in range(min(len(grid), 50)):
+        cells = [c for c in grid.iloc[i].tolist() if isinstance(c, str) and c.strip()]
+        if len(cells) >= 2:
+            header_row = i
+            break
+        if cells:
+            m = _META.match("# " + cells[0].lstrip("# "))
+            if m:
+                meta[m.group(1).strip().lower()] = m.group(2)
+    if header_row is None:
+        raise InputError(path.name, "no header row found in the first 50 rows of the sheet")
+    header = [str(c).strip() if c is not None and not (isinstance(c, float) and np.isnan(c)) else ""
+              for c in grid.iloc[header_row].tolist()]
+    keep = [i for i, h in enumerate(header) if h]
+    frame = grid.iloc[header_row + 1:, keep].copy()
+    frame.columns = [header[i] for i in keep]
+    frame = frame.dropna(how="all")
+    lines = (frame.index.to_numpy() + 1).astype("int64")  # spreadsheet row numbers
+    frame = frame.reset_index(drop=True)
+    for c in frame.columns:
+        col = frame[c]
+        if col.map(lambda v: isinstance(v, pd.Timestamp) or hasattr(v, "isoformat")).all():
+            frame[c] = pd.to_datetime(col)
+    return RawTable(frame, list(frame.columns), lines, meta, [], line_label="row")
+
+
+def load_parquet(path: Path) -> RawTable:
+    import pyarrow.parquet as pq
+
+    try:
+        table = pq.read_table(path)
+    except Exception as exc:
+        raise InputError(path.name, f"cannot read as Parquet: {exc}") from None
+    meta = {}
+    if table.schema.metadata:
+        for k, v in table.schema.metadata.items():
+            key = k.decode(errors="ignore").lower()
+            if key.startswith("degas.") or key in ("station", "species", "vesicularity"):
+                meta[key.removeprefix("degas.")] = v.decode(errors="ignore")
+    frame = table.to_pandas()
+    return RawTable(frame, list(frame.columns), np.arange(1, len(frame) + 1), meta, [], line_label="row")
+
+
+# --------------------------------------------------------------------------- column plan
+
+
+@dataclass
+class Plan:
+    kind: str
+    roles: dict[str, str]  # role -> column
+    values: list[tuple[str, Header]]  # value columns with parsed headers
+    uncertainty_for: dict[str, str]  # value column -> uncertainty column
+
+
+def _headers(raw: RawTable) -> dict[str, Header]:
+    return {h: split_header(h) for h in raw.frame.columns}
+
+
+def plan_columns(raw: RawTable, options: ReadOptions, source: str) -> Plan:
+    hdrs = _headers(raw)
+    roles: dict[str, str] = {}
+    for role, col in options.columns.items():
+        if col not in raw.frame.columns:
+            raise InputError(source, f"mapped column {col!r} (for {role}) not found; columns are {list(hdrs)}")
+        roles[role] = col
+    taken = set(roles.values())
+
+    def find(role: str, alias_role: str | None = None) -> str | None:
+        if role in roles:
+            return roles[role]
+        for col, h in hdrs.items():
+            if col not in taken and match_role(h, alias_role or role):
+                roles[role] = col
+                taken.add(col)
+                return col
+        return None
+
+    kind = options.kind or raw.meta.get("kind")
+    if kind is not None and kind not in KINDS:
+        raise InputError(source, f"unknown kind {kind!r}; valid kinds: {', '.join(KINDS)}")
+    # chronology?
+    has_start = any(match_role(h, "start") for h in hdrs.values()) or "start" in roles
+    has_state = any(match_role(h, "state") for h in hdrs.values()) or "state" in roles
+    if kind == "chronology" or (kind is None and has_start and has_state):
+        find("start", "start") or find("start", "time")
+        if "start" in roles:
+            roles["time"] = roles.pop("start")
+        find("end")
+        find("state")
+        find("style")
+        find("note")
+        if "time" not in roles:
+            raise InputError(source, f"no start column for a chronology; columns are {list(hdrs)}")
+        if "state" not in roles and "style" not in roles:
+            raise InputError(source, f"no state/activity or style column, so this is not an eruption chronology "
+                                     f"(wrong file or wrong --kind?); columns are {list(hdrs)}")
+        return Plan("chronology", roles, [], {})
+
+    find("time")
+    if "time" not in roles:
+        find("time", "start")
+    if "time" not in roles:
+        raise InputError(source, f"no time column found; columns are {list(hdrs)} "
+                                 "(name one with --time-col or [columns] time = ... in a mapping file)")
+    cat_roles = ("magnitude", "latitude", "longitude", "event_class", "magnitude_type", "event_id")
+    looks_catalog = any(any(match_role(h, r) for r in ("magnitude", "latitude", "event_class"))
+                        for c, h in hdrs.items() if c not in taken)
+    if kind == "seismic_catalog" or (kind is None and looks_catalog):
+        for r in (*cat_roles, "depth", "station"):
+            find(r)
+        return Plan("seismic_catalog", roles, [], {})
+
+    find("end")
+    find("quality")
+    find("station")
+    unc_cols = [c for c, h in hdrs.items() if c not in taken and match_role(h, "uncertainty")]
+    unc_cols += [c for c, h in hdrs.items() if c not in taken and c not in unc_cols
+                 and re.search(r"\b(err|error|unc|sigma|sd|std)\b", h.name)]
+    if "uncertainty" in roles:
+        unc_cols = [roles["uncertainty"]]
+    value_cols: list[str] = []
+    if "value" in roles:
+        value_cols = [roles["value"]]
+    else:
+        for c, h in hdrs.items():
+            if c in taken or c in unc_cols:
+                continue
+            if kind is None and guess_kind(h) is not None:
+                value_cols.append(c)
+            elif kind is not None and (guess_kind(h) in (kind, None) or len(hdrs) - len(taken) == 1):
+                value_cols.append(c)
+        if kind is not None and not value_cols:
+            rest = [c for c in hdrs if c not in taken and c not in unc_cols]
+            if len(rest) == 1:
+                value_cols = rest
+        if kind is not None and len(value_cols) > 1:
+            strict = [c for c in value_cols if guess_kind(hdrs[c]) == kind]
+            value_cols = strict or value_cols
+    if not value_cols:
+        raise InputError(source, f"no value column recognised; columns are {list(hdrs)} "
+                                 "(say which with --value-col and --kind)")
+    if kind is None:
+        kinds = {guess_kind(hdrs[c]) for c in value_cols} - {None}
+        if len(kinds) != 1:
+            raise InputError(source, f"cannot tell what kind of series this is (columns {value_cols}); "
+                                     f"pass --kind ({', '.join(SERIES_KINDS)})")
+        kind = kinds.pop()
+    if kind not in SERIES_KINDS:
+        raise InputError(source, f"file looks like a {kind}-free series table but --kind {kind} was given; "
+                                 f"columns are {list(hdrs)}")
+    unc_for: dict[str, str] = {}
+    for v in value_cols:
+        if len(value_cols) == 1 and unc_cols:
+            unc_for[v] = unc_cols[0]
+            continue
+        sp = species_in(hdrs[v].words)
+        for u in unc_cols:
+            if sp and species_in(hdrs[u].words) == sp:
+                unc_for[v] = u
+    for u in unc_cols:
+        taken.add(u)
+    return Plan(kind, roles, [(c, hdrs[c]) for c in value_cols], unc_for)
+
+
+# --------------------------------------------------------------------------- helpers
+
+
+class _Rejects:
+    """Collects rejected rows; each row is rejected once, with its first reason."""
+
+    def __init__(self, source: str, raw: RawTable):
+        self.source = source
+        self.raw = raw
+        self.rows: list[tuple] = list(raw.rejects)
+        self.alive = np.ones(len(raw.frame), dtype=bool)
+
+    def reject(self, mask: np.ndarray, column: str | None, reason, values: pd.Series | None = None) -> None:
+        mask = np.asarray(mask, dtype=bool) & self.alive
+        if not mask.any():
+            return
+        idx = np.flatnonzero(mask)
+        vals = values.to_numpy()[idx] if values is not None else [None] * len(idx)
+        for i, v in zip(idx, vals, strict=True):
+            r = reason(i) if callable(reason) else reason
+            self.rows.append((self.source, int(self.raw.lines[i]), column, r, None if v is None else str(v)[:200]))
+        self.alive &= ~mask
+
+
+def _numeric(col: pd.Series) -> pd.Series:
+    """Cells -> float64; unparseable -> NaN. Accepts decimal commas ("1,25") in semicolon files."""
+    if pd.api.types.is_numeric_dtype(col.dtype) and not pd.api.types.is_bool_dtype(col.dtype):
+        return col.astype("float64")
+    s = col.astype("string").str.strip()
+    out = pd.to_numeric(s, errors="coerce").astype("float64")
+    bad = out.isna() & s.notna() & (s != "")
+    if bad.any():
+        comma = s[bad].str.fullmatch(r"-?\d+,\d+")
+        if comma.any():
+            fixed = pd.to_numeric(s[bad][comma].str.replace(",", ".", regex=False), errors="coerce")
+            out.loc[fixed.index] = fixed
+    return out
+
+
+def _blank(col: pd.Series) -> np.ndarray:
+    if pd.api.types.is_numeric_dtype(col.dtype) or pd.api.types.is_datetime64_any_dtype(col.dtype):
+        return col.isna().to_numpy()
+    s = col.astype("string")
+    return (s.isna() | (s.str.strip() == "")).to_numpy()
+
+
+def _unit_for(role_unit: str | None, header: Header | None, meta_unit: str | None) -> str | None:
+    return role_unit or (header.unit if header else None) or meta_unit
+
+
+def _times(raw: RawTable, col: str, options: ReadOptions, rej: _Rejects, source: str) -> tuple[pd.Series, tuple]:
+    tz = options.timezone or raw.meta.get("timezone") or raw.meta.get("time zone")
+    times_meta = raw.meta.get("times", "")
+    if tz is None and re.search(r"\butc\b", times_meta, re.I) and not re.search(r"offset", times_meta, re.I):
+        tz = "UTC"
+    if tz is None and re.search(r"\butc\b", col, re.I):
+        tz = "UTC"
+    try:
+        parsed = parse_times(raw.frame[col], time_format=options.time_format, timezone=tz, dayfirst=options.dayfirst)
+    except Exception as exc:
+        from degas.errors import DegasError
+
+        if isinstance(exc, DegasError):
+            raise InputError(source, str(exc), column=col) from None
+        raise
+    t = parsed.times
+    blank = _blank(raw.frame[col])
+    rej.reject(blank, col, "missing time")
+    rej.reject(t.isna().to_numpy() & ~blank, col, "unparseable time", raw.frame[col])
+    return t, parsed.assumptions
+
+
+def _sha_and_prov(path: Path, reader: str, accepted: int, rejected: int, original_unit, assumptions,
+                  options: ReadOptions) -> Provenance:
+    return Provenance(
+        source_name=path.name,
+        sha256=file_sha256(path),
+        reader=reader,
+        rows_accepted=accepted,
+        rows_rejected=rejected,
+        original_unit=original_unit,
+        assumptions=tuple(dict.fromkeys(assumptions)),
+        ingested_at=pd.Timestamp.now(tz="UTC").isoformat(timespec="seconds"),
+        options=options.as_pairs(),
+    )
+
+
+def _dedupe_and_sort(df: pd.DataFrame, lines: np.ndarray, key: list[str], compare: list[str], source: str,
+                     rejects: list, notes: list[str], what: str,
+                     label: str | None = None) -> tuple[pd.DataFrame, np.ndarray]:
+    """Reject later duplicates of a key (same or conflicting values), then sort by time."""
+    if len(df) == 0:
+        return df, lines
+    dup = df.duplicated(subset=key, keep="first").to_numpy()
+    if dup.any():
+        first_line = {}
+        keys = list(zip(*(df[k].to_numpy() for k in key), strict=True))
+        for i, k in enumerate(keys):
+            if not dup[i]:
+                first_line.setdefault(k, i)
+        for i in np.flatnonzero(dup):
+            j = first_line[keys[i]]
+            same = all(_same(df[c].iloc[i], df[c].iloc[j]) for c in compare)
+            reason = (f"duplicate of line {lines[j]}" if same
+                      else f"duplicate {what} with a different value than line {lines[j]}")
+            rejects.append((source, int(lines[i]), label or key[0], reason, str(df[key[0]].iloc[i])))
+        df = df.loc[~dup]
+        lines = lines[~dup]
+    t = df[key[0]].to_numpy()
+    if len(t) > 1 and (t[1:] < t[:-1]).any():
+        order = np.argsort(t, kind="stable")
+        n_out = int((t[1:] < t[:-1]).sum())
+        notes.append(f"{source}: {n_out} row(s) out of time order; sorted")
+        df = df.iloc[order]
+        lines = lines[order]
+    return df.reset_index(drop=True), lines
+
+
+def _same(a, b) -> bool:
+    if isinstance(a, float) and isinstance(b, float):
+        return (np.isnan(a) and np.isnan(b)) or a == b
+    return (pd.isna(a) and pd.isna(b)) or a == b
+
+
+# --------------------------------------------------------------------------- builders
+
+
+def read_table(path: Path, options: ReadOptions, fmt: str) -> ReadResult:
+    """Read a tabular file in format ``fmt`` ("delimited", "excel" or "parquet")."""
+    loader = {"delimited": load_delimited, "excel": load_excel, "parquet": load_parquet}[fmt]
+    raw = loader(path)
+    source = path.name
+    if raw.frame.empty:
+        raise InputError(source, "no data rows (header only)" if not raw.rejects else
+                         f"no usable data rows ({len(raw.rejects)} malformed)")
+    plan = plan_columns(raw, options, source)
+    reader = f"table/{fmt}"
+    if plan.kind == "chronology":
+        return _build_chronology(path, raw, plan, options, reader)
+    if plan.kind == "seismic_catalog":
+        return _build_catalog(path, raw, plan, options, reader)
+    return _build_series(path, raw, plan, options, reader)
+
+
+def _meta_float(raw: RawTable, *keys: str) -> float | None:
+    for k in keys:
+        if k in raw.meta:
+            m = re.match(r"\s*([-+]?\d*\.?\d+(?:[eE][-+]?\d+)?)", raw.meta[k])
+            if m:
+                return float(m.group(1))
+    return None
+
+
+def _build_series(path: Path, raw: RawTable, plan: Plan, options: ReadOptions, reader: str) -> ReadResult:
+    source = path.name
+    kind = plan.kind
+    rej = _Rejects(source, raw)
+    notes: list[str] = []
+    times, assumptions = _times(raw, plan.roles["time"], options, rej, source)
+    assumptions = list(assumptions)
+    ends = None
+    if "end" in plan.roles:
+        ends, _ = _times(raw, plan.roles["end"], options, rej, source)
+        bad_order = (ends <= times).to_numpy() & ends.notna().to_numpy()
+        rej.reject(bad_order, plan.roles["end"], "end is not after start", raw.frame[plan.roles["end"]])
+    station_col = plan.roles.get("station")
+    quality = raw.frame[plan.roles["quality"]].astype("string").str.strip() if "quality" in plan.roles else None
+    base_alive = rej.alive.copy()
+    all_rows: list[tuple] = list(rej.rows)
+    records: list[TimeSeries] = []
+    canonical = CANONICAL_UNIT[kind]
+    for col, header in plan.values:
+        rej.alive = base_alive.copy()
+        rej.rows = []
+        unit = _unit_for(options.units.get("value"), header, raw.meta.get("unit"))
+        species = options.species or raw.meta.get("species") or _species_for(kind, header)
+        basis = None
+        factor = 1.0
+        if kind == "gas_ratio":
+            unit, factor, a = _ratio_unit(unit, header, species)
+            assumptions.extend(a)
+        elif canonical is not None:
+            if unit is None:
+                raise InputError(source, f"no unit for column {col!r}; state it in the header, e.g. "
+                                         f"'{header.name} ({DISPLAY_UNIT[kind]})', or pass --unit",
+                                 column=col)
+            try:
+                factor = conversion_factor(unit, canonical)
+            except UnitError as exc:
+                raise InputError(source, str(exc), column=col) from None
+        if kind in ("erupted_volume", "extrusion_rate"):
+            basis = options.volume_basis or volume_basis_in(header) or _basis_from_meta(raw)
+        values = _numeric(raw.frame[col])
+        v = values.to_numpy()
+        blank = _blank(raw.frame[col])
+        rej.reject(blank, col, "missing value")
+        nan_text = raw.frame[col].astype("string").str.strip().str.lower().isin(["nan", "na", "n/a", "null", "none"])
+        rej.reject(nan_text.to_numpy(dtype=bool, na_value=False), col, "missing value (NaN)", raw.frame[col])
+        rej.reject(np.isnan(v) & ~blank, col, "not a number", raw.frame[col])
+        rej.reject(np.isin(v, MISSING_CODES), col, lambda i, _v=v: f"missing-value code {_v[i]:g}", raw.frame[col])
+        rej.reject(np.isinf(v), col, "infinite value", raw.frame[col])
+        if kind in NONNEGATIVE_KINDS and not options.allow_negative:
+            rej.reject(v < 0, col, "negative value (use --allow-negative to keep)", raw.frame[col])
+        unc = None
+        if col in plan.uncertainty_for:
+            ucol = plan.uncertainty_for[col]
+            uh = split_header(ucol)
+            uunit = options.units.get("uncertainty") or uh.unit or unit
+            ufactor = factor if kind == "gas_ratio" else (conversion_factor(uunit, canonical) if canonical else 1.0)
+            unc = _numeric(raw.frame[ucol]).to_numpy() * ufactor
+            neg_u = unc < 0
+            rej.reject(neg_u, ucol, "negative uncertainty", raw.frame[ucol])
+        values_si = v * factor
+        if kind in ("erupted_volume", "extrusion_rate") and basis == "bulk":
+            dre = _dre_factor(options, raw)
+            if dre is not None:
+                f_dre, text = dre
+                values_si = values_si * f_dre
+                if unc is not None:
+                    unc = unc * f_dre
+                assumptions.append(text)
+                basis = "dre"
+            else:
+                notes.append(f"{source}: column {col!r} holds BULK volumes and no vesicularity or densities were "
+                             "given: stored as bulk, not converted to DRE")
+        elif kind in ("erupted_volume", "extrusion_rate") and basis is None:
+            notes.append(f"{source}: column {col!r} does not say whether volumes are DRE or bulk; stored "
+                         "unconverted with the basis unknown")
+        df = pd.DataFrame({
+            "time": times,
+            "end": ends if ends is not None else pd.Series(pd.NaT, index=times.index, dtype="datetime64[ns, UTC]"),
+            "value": values_si,
+            "uncertainty": unc if unc is not None else np.full(len(v), np.nan),
+            "quality": quality if quality is not None else pd.Series(pd.NA, index=times.index, dtype="string"),
+        })
+        stations = (raw.frame[station_col].astype("string").str.strip() if station_col
+                    else pd.Series(options.station or raw.meta.get("station"), index=times.index, dtype="object"))
+        alive = rej.alive
+        df = df.loc[alive]
+        lines = raw.lines[alive]
+        st = stations[alive]
+        rows = rej.rows
+        for station in pd.unique(st.to_numpy()) if len(st) else [options.station]:
+            sel = (st == station).to_numpy() if station is not None and not pd.isna(station) else st.isna().to_numpy()
+            part, plines = _dedupe_and_sort(df.loc[sel], lines[sel], ["time"], ["value", "end"], source, rows, notes,
+                                            "timestamp", plan.roles["time"])
+            part = part.astype({"time": "datetime64[ns, UTC]", "end": "datetime64[ns, UTC]"})
+            station_s = None if station is None or pd.isna(station) else str(station)
+            meta = SeriesMeta(
+                kind=kind,
+                quantity=_quantity(kind, species, header),
+                station=station_s,
+                species=species if kind in ("gas_flux", "gas_ratio") else None,
+                unit=canonical if canonical else unit,
+                display_unit=DISPLAY_UNIT[kind] if canonical else unit,
+                volume_basis=basis,
+                description=header.raw,
+            )
+            records.append(TimeSeries(part, meta))
+        all_rows.extend(rows)
+        first_unit = unit
+    n_rej = len(all_rows)
+    prov_assumptions = assumptions
+    out = []
+    for r in records:
+        prov = _sha_and_prov(path, reader, len(r.data), n_rej, first_unit, prov_assumptions, options)
+        out.append(TimeSeries(r.data, r.meta, (prov,)))
+    notes.extend(f"{source}: {a}" for a in dict.fromkeys(prov_assumptions))
+    return ReadResult(out, rejects_frame(all_rows), notes)
+
+
+def _species_for(kind: str, header: Header) -> str | None:
+    sp = species_in(header.words)
+    if kind == "gas_flux":
+        return sp[0] if sp else None
+    if kind == "gas_ratio":
+        return "/".join(sp) if sp else None
+    return None
+
+
+def _quantity(kind: str, species: str | None, header: Header) -> str:
+    if kind == "gas_flux":
+        return f"{(species or 'gas').lower()}_flux"
+    if kind == "gas_ratio":
+        return (species or "gas").lower().replace("/", "_") + "_ratio"
+    if kind == "extrusion_rate":
+        return "extrusion_rate"
+    if kind == "erupted_volume":
+        return "cumulative_volume"
+    name = re.sub(r"[^a-z0-9]+", "_", header.name.lower()).strip("_")
+    return name or kind
+
+
+def _ratio_unit(unit: str | None, header: Header, species: str | None) -> tuple[str, float, list[str]]:
+    """Gas ratios are stored molar (mol/mol); mass ratios are converted with IUPAC molar masses."""
+    words = header.words + " " + (unit or "")
+    if re.search(r"\bmass\b|\bkg/kg\b|\bg/g\b|\bwt\b", words):
+        from degas.chem import mass_to_molar_ratio
+
+        sp = (species or "").split("/")
+        if len(sp) == 2 and all(s in ("SO2", "CO2", "H2S", "H2O") for s in sp):
+            f = mass_to_molar_ratio(1.0, sp[0], sp[1])
+            return "mol/mol", f, [f"mass ratio {species} converted to molar with IUPAC molar masses (x{f:.6f})"]
+        raise InputError(header.raw, "mass ratio given but the two species are not recognised; cannot convert")
+    if unit in (None, "", "molar", "mol/mol") or re.search(r"\bmolar\b", words):
+        return "mol/mol", 1.0, ([] if re.search(r"\bmolar\b|mol/mol", words) else
+                                [f"ratio column {header.raw!r} taken as molar (header did not say)"])
+    return "mol/mol", conversion_factor(unit, "mol/mol"), []
+
+
+def _basis_from_meta(raw: RawTable) -> str | None:
+    text = (raw.meta.get("volume basis") or raw.meta.get("basis") or "").lower()
+    if "dre" in text or "dense" in text:
+        return "dre"
+    if "bulk" in text:
+        return "bulk"
+    return None
+
+
+def _dre_factor(options: ReadOptions, raw: RawTable) -> tuple[float, str] | None:
+    """Factor bulk -> DRE: (1 - vesicularity) or bulk/dense density; None when nothing was stated."""
+    ves = options.vesicularity if options.vesicularity is not None else _meta_float(raw, "vesicularity")
+    where = "option" if options.vesicularity is not None else "file header"
+    if ves is not None:
+        if not 0 <= ves < 1:
+            raise InputError(raw.headers[0] if raw.headers else "?", f"vesicularity must be in [0, 1), got {ves}")
+        return 1.0 - ves, f"bulk volume converted to DRE with vesicularity {ves:g} (from {where}): V_DRE = V_bulk (1 - φ)"
+    rb = options.bulk_density if options.bulk_density is not None else _meta_float(raw, "bulk density")
+    rd = options.dense_density if options.dense_density is not None else _meta_float(raw, "dense density", "dre density")
+    if rb is not None and rd is not None:
+        return rb / rd, f"bulk volume converted to DRE with densities {rb:g}/{rd:g} kg/m³: V_DRE = V_bulk ρ_bulk/ρ_DRE"
+    return None
+
+
+def _build_chronology(path: Path, raw: RawTable, plan: Plan, options: ReadOptions, reader: str) -> ReadResult:
+    source = path.name
+    rej = _Rejects(source, raw)
+    notes: list[str] = []
+    start, assumptions = _times(raw, plan.roles["time"], options, rej, source)
+    if "end" in plan.roles:
+        endcol = raw.frame[plan.roles["end"]]
+        open_end = _blank(endcol)
+        tmp = _Rejects(source, raw)
+        end, _ = _times(raw.__class__(raw.frame.assign(**{plan.roles["end"]: endcol.where(~open_end, "2000-01-01")}),
+                                      raw.headers, raw.lines, raw.meta), plan.roles["end"], options, tmp, source)
+        end = end.where(~open_end, pd.NaT)
+        for row in tmp.rows:
+            rej.rows.append(row)
+        rej.alive &= tmp.alive
+        rej.reject((end <= start).to_numpy() & ~open_end, plan.roles["end"], "end is not after start", endcol)
+    else:
+        end = pd.Series(pd.NaT, index=start.index, dtype="datetime64[ns, UTC]")
+    state = _vocab(raw.frame.get(plan.roles.get("state")), STATE_WORDS, "unknown")
+    style = _vocab(raw.frame.get(plan.roles.get("style")), STYLE_WORDS, "unknown")
+    if plan.roles.get("state") is None:
+        notes.append(f"{source}: no state column; every interval marked unknown")
+    # infer state from style when only style is given ("explosive" -> eruptive)
+    state = state.where(~((state == "unknown") & style.isin(["effusive", "explosive", "mixed"])), "eruptive")
+    note = (raw.frame[plan.roles["note"]].astype("string") if "note" in plan.roles
+            else pd.Series(pd.NA, index=start.index, dtype="string"))
+    df = pd.DataFrame({"start": start, "end": end.astype("datetime64[ns, UTC]"), "state": state.astype("string"),
+                       "style": style.astype("string"), "note": note})
+    alive = rej.alive
+    df = df.loc[alive]
+    lines = raw.lines[alive]
+    rows = rej.rows
+    df, lines = _dedupe_and_sort(df, lines, ["start"], ["end", "state"], source, rows, notes, "phase start",
+                                 plan.roles["time"])
+    ov = df["start"].iloc[1:].to_numpy() < df["end"].iloc[:-1].fillna(pd.Timestamp.max.tz_localize("UTC")).to_numpy()
+    if ov.any():
+        notes.append(f"{source}: {int(ov.sum())} phase(s) overlap the previous one (kept as given)")
+    meta = SeriesMeta(kind="chronology", quantity="eruptive_state", station=options.station or raw.meta.get("station"))
+    prov = _sha_and_prov(path, reader, len(df), len(rows), None, assumptions, options)
+    notes.extend(f"{source}: {a}" for a in assumptions)
+    return ReadResult([Chronology(df, meta, (prov,))], rejects_frame(rows), notes)
+
+
+STATE_WORDS = {
+    "eruptive": ("eruptive", "eruption", "erupting", "active", "extrusion", "extruding", "effusive", "explosive",
+                 "dome growth", "growth", "lava", "on"),
+    "pause": ("pause", "paused", "repose", "quiet", "quiescent", "hiatus", "inactive", "no extrusion", "off", "rest"),
+    "unknown": ("unknown", "?", "uncertain", "n/a", "na", ""),
+}
+STYLE_WORDS = {
+    "effusive": ("effusive", "dome", "dome growth", "lava flow", "extrusion", "lava"),
+    "explosive": ("explosive", "explosion", "vulcanian", "plinian", "ash", "strombolian"),
+    "mixed": ("mixed", "effusive-explosive", "explosive-effusive", "both"),
+    "unknown": ("unknown", "?", "n/a", "na", "", "none", "-"),
+}
+
+
+def _vocab(col: pd.Series | None, words: dict[str, tuple[str, ...]], default: str) -> pd.Series:
+    if col is None:
+        return pd.Series(default, dtype="string")
+    s = col.astype("string").str.strip().str.lower().fillna("")
+    lookup = {w: k for k, ws in words.items() for w in ws}
+    out = s.map(lambda x: lookup.get(x) or next((k for w, k in lookup.items() if w and w in x), default))
+    assert set(out.unique()) <= set(ERUPTIVE_STATES) | set(ERUPTIVE_STYLES)
+    return out.astype("string")
+
+
+def _build_catalog(path: Path, raw: RawTable, plan: Plan, options: ReadOptions, reader: str) -> ReadResult:
+    from degas.io.event_classes import map_event_classes
+
+    source = path.name
+    rej = _Rejects(source, raw)
+    notes: list[str] = []
+    times, assumptions = _times(raw, plan.roles["time"], options, rej, source)
+    assumptions = list(assumptions)
+    n = len(raw.frame)
+
+    def num(role: str) -> np.ndarray:
+        if role not in plan.roles:
+            return np.full(n, np.nan)
+        col = raw.frame[plan.roles[role]]
+        v = _numeric(col).to_numpy()
+        bad = np.isnan(v) & ~_blank(col)
+        rej.reject(bad | np.isinf(v), plan.roles[role], f"{role} is not a number", col)
+        return v
+
+    lat, lon, mag = num("latitude"), num("longitude"), num("magnitude")
+    rej.reject(np.abs(lat) > 90, plan.roles.get("latitude"), "latitude outside [-90, 90]")
+    rej.reject(np.abs(lon) > 360, plan.roles.get("longitude"), "longitude outside [-180, 360]")
+    depth = num("depth")
+    if "depth" in plan.roles:
+        dh = split_header(plan.roles["depth"])
+        dunit = options.units.get("depth") or dh.unit
+        if dunit is None:
+            dunit = "km"
+            assumptions.append("depth unit not stated; taken as km (common practice for catalogue exports)")
+        depth = depth * conversion_factor(dunit, "m")
+    if "magnitude_type" in plan.roles:
+        mtype = raw.frame[plan.roles["magnitude_type"]].astype("string").str.strip()
+        mtype = mtype.where(mtype != "", pd.NA)
+    else:
+        mh = split_header(plan.roles["magnitude"]).name if "magnitude" in plan.roles else ""
+        mt = options.magnitude_type or raw.meta.get("magnitude type") or MAGNITUDE_TYPE_HEADERS.get(mh)
+        mtype = pd.Series(mt if mt else pd.NA, index=raw.frame.index, dtype="string")
+    mtype = mtype.where(~np.isnan(mag), pd.NA)
+    if "event_class" in plan.roles:
+        labels = raw.frame[plan.roles["event_class"]].astype("string").str.strip().fillna("")
+    else:
+        labels = pd.Series("", index=raw.frame.index, dtype="string")
+        notes.append(f"{source}: no event type column; every event classed as other")
+    mapping = map_event_classes(labels, options.class_map)
+    assumptions.extend(mapping.assumptions)
+    if mapping.unknown:
+        notes.append(f"{source}: unknown event types mapped to other: {', '.join(map(str, mapping.unknown))}")
+    if "event_id" in plan.roles:
+        ids = raw.frame[plan.roles["event_id"]].astype("string").str.strip()
+        blank_id = ids.isna() | (ids == "")
+    else:
+        blank_id = pd.Series(True, index=raw.frame.index)
+        ids = pd.Series(pd.NA, index=raw.frame.index, dtype="string")
+    if blank_id.any():
+        gen = _event_ids(times, lat, lon, mag, labels)
+        ids = ids.where(~blank_id, gen)
+    df = pd.DataFrame({
+        "time": times, "latitude_deg": lat, "longitude_deg": lon, "depth_m": depth, "magnitude": mag,
+        "magnitude_type": mtype.astype("string"), "event_class": mapping.classes.astype("string").to_numpy(),
+        "event_id": ids.astype("string"), "source_type": labels.astype("string"),
+    })
+    alive = rej.alive
+    df = df.loc[alive]
+    lines = raw.lines[alive]
+    rows = rej.rows
+    df, lines = _dedupe_and_sort(df, lines, ["event_id"], ["time", "magnitude"], source, rows, notes, "event id")
+    order = np.argsort(df["time"].to_numpy(), kind="stable")
+    df = df.iloc[order].reset_index(drop=True)
+    no_mag = int(df["magnitude"].isna().sum())
+    if no_mag:
+        notes.append(f"{source}: {no_mag} event(s) without magnitude: counted, but excluded from energy and b-value")
+    meta = SeriesMeta(kind="seismic_catalog", quantity="events", station=options.station or raw.meta.get("station"))
+    prov = _sha_and_prov(path, reader, len(df), len(rows), None, assumptions, options)
+    notes.extend(f"{source}: {a}" for a in dict.fromkeys(assumptions))
+    return ReadResult([EventCatalog(df, meta, (prov,))], rejects_frame(rows), notes)
+
+
+def _event_ids(times: pd.Series, lat, lon, mag, labels: pd.Series) -> pd.Series:
+    """Stable ids for events without one: a hash of time, place, magnitude and label."""
+    t = times.to_numpy(dtype="datetime64[ns]").astype("int64")
+    out = []
+    for ti, a, b, m, lab in zip(t, lat, lon, mag, labels.to_numpy(), strict=True):
+        key = f"{ti}|{a:.5f}|{b:.5f}|{m:.2f}|{lab}"
+        out.append("h" + hashlib.sha1(key.encode()).hexdigest()[:16])
+    return pd.Series(out, index=times.index, dtype="string")
+
+
+__all__ = ["is_delimited", "is_excel", "is_parquet", "load_delimited", "load_excel", "load_parquet", "read_table"]
