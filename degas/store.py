@@ -184,7 +184,8 @@ class Archive:
         root = Path(root)
         path = root / MANIFEST
         if not path.exists():
-            raise ArchiveError(f"{root}: not a degas archive (no {MANIFEST}); create one with 'degas ingest ... --into'")
+            raise ArchiveError(f"{root}: not a degas archive (no {MANIFEST}); "
+                               "create one with 'degas ingest ... --into'")
         try:
             manifest = json.loads(path.read_text())
         except (OSError, json.JSONDecodeError) as exc:
@@ -254,7 +255,8 @@ class Archive:
             try:
                 fcntl.flock(fh, fcntl.LOCK_EX | fcntl.LOCK_NB)
             except BlockingIOError:
-                raise ArchiveError(f"{self.root}: another process is writing to this archive; try again later") from None
+                raise ArchiveError(f"{self.root}: another process is writing to this archive; "
+                                   "try again later") from None
             # re-read the manifest under the lock: another writer may have committed meanwhile
             self._manifest = json.loads((self.root / MANIFEST).read_text())
             self._remove_strays()

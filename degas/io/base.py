@@ -9,6 +9,7 @@ returns records in the canonical model (UTC, SI) plus every rejected row.
 from __future__ import annotations
 
 from dataclasses import dataclass, field
+from functools import lru_cache
 from pathlib import Path
 
 import pandas as pd
@@ -94,7 +95,13 @@ def rejects_frame(rows: list[tuple]) -> pd.DataFrame:
 
 
 def file_sha256(path: Path) -> str:
-    """SHA-256 of a file, read in 1 MiB blocks."""
+    """SHA-256 of a file, read in 1 MiB blocks (cached per path, size and modification time)."""
+    st = Path(path).stat()
+    return _sha256_cached(str(Path(path).resolve()), st.st_size, st.st_mtime_ns)
+
+
+@lru_cache(maxsize=256)
+def _sha256_cached(path: str, size: int, mtime_ns: int) -> str:
     import hashlib
 
     h = hashlib.sha256()

@@ -37,7 +37,8 @@ def options_from_dict(d: dict, where: str = "mapping") -> ReadOptions:
     """Validate a dict of option values and build ReadOptions; unknown keys are an error."""
     unknown = sorted(set(d) - _FIELDS - {"path", "format"})
     if unknown:
-        raise ConfigError(f"{where}: unknown option(s) {unknown}; valid: {', '.join(sorted(_FIELDS | {'path', 'format'}))}")
+        valid = ", ".join(sorted(_FIELDS | {"path", "format"}))
+        raise ConfigError(f"{where}: unknown option(s) {unknown}; valid: {valid}")
     clean = {k: v for k, v in d.items() if k in _FIELDS}
     for k in _DICT_FIELDS & set(clean):
         if not isinstance(clean[k], dict):

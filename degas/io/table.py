@@ -22,7 +22,7 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 
-from degas.errors import InputError, UnitError
+from degas.errors import DegasError, InputError, UnitError
 from degas.io.base import ReadOptions, ReadResult, file_sha256, rejects_frame
 from degas.io.columns import (
     MAGNITUDE_TYPE_HEADERS,
@@ -172,12 +172,11 @@ def load_delimited(path: Path) -> RawTable:
     if len(set(header)) != len(header):
         dup = sorted({h for h in header if header.count(h) > 1})
         raise InputError(path.name, f"duplicate column names {dup}", line=n_pre + 1)
-    names = header + [f"__extra{i}" for i in range(64)]
-    try:
-        table = pcsv.read_csv(
+    def _read(threads: bool):
+        return pcsv.read_csv(
             path,
             read_options=pcsv.ReadOptions(
-                skip_rows=n_pre + 1, column_names=header, use_threads=False, encoding=encoding,
+                skip_rows=n_pre + 1, column_names=header, use_threads=threads, encoding=encoding,
                 block_size=1 << 24,
             ),
             parse_options=pcsv.ParseOptions(delimiter=delim, invalid_row_handler=on_invalid,
@@ -187,9 +186,15 @@ def load_delimited(path: Path) -> RawTable:
                 quoted_strings_can_be_null=False,
             ),
         )
+
+    try:
+        # multi-threaded first; invalid rows carry no line number then, so such files are read again
+        table = _read(True)
+        if bad:
+            bad.clear()
+            table = _read(False)
     except pa.ArrowInvalid as exc:
         raise InputError(path.name, f"cannot read as a delimited table: {str(exc).splitlines()[0]}") from None
-    del names
     first_data_line = n_pre + 2
     n = table.num_rows
     if bad:
@@ -206,9 +211,11 @@ def load_delimited(path: Path) -> RawTable:
     ]
     # drop blank lines (all cells empty) silently: they are not data
     if len(frame):
-        blank = np.ones(len(frame), dtype=bool)
-        for c in frame.columns:
-            blank &= (frame[c].str.strip() == "").to_numpy()
+        first = frame.columns[0]
+        blank = (frame[first].str.len() == 0).to_numpy().copy()
+        if blank.any():
+            for c in frame.columns:
+                blank[blank] &= (frame.loc[blank, c].str.strip() == "").to_numpy()
         if blank.any():
             frame = frame.loc[~blank].reset_index(drop=True)
             lines = lines[~blank]
@@ -417,6 +424,9 @@ def _numeric(col: pd.Series) -> pd.Series:
     """Cells -> float64; unparseable -> NaN. Accepts decimal commas ("1,25") in semicolon files."""
     if pd.api.types.is_numeric_dtype(col.dtype) and not pd.api.types.is_bool_dtype(col.dtype):
         return col.astype("float64")
+    fast = _arrow_float(col)
+    if fast is not None:
+        return fast
     s = col.astype("string").str.strip()
     out = pd.to_numeric(s, errors="coerce").astype("float64")
     bad = out.isna() & s.notna() & (s != "")
@@ -426,6 +436,21 @@ def _numeric(col: pd.Series) -> pd.Series:
             fixed = pd.to_numeric(s[bad][comma].str.replace(",", ".", regex=False), errors="coerce")
             out.loc[fixed.index] = fixed
     return out
+
+
+def _arrow_float(col: pd.Series) -> pd.Series | None:
+    """Fast path: a column whose every cell is a plain number; None when any cell needs care."""
+    import pyarrow as pa
+    import pyarrow.compute as pc
+
+    try:
+        arr = pa.array(col, type=pa.string(), from_pandas=True)
+        if arr.null_count:
+            return None
+        out = pc.cast(arr, pa.float64())
+    except (pa.ArrowInvalid, pa.ArrowTypeError, pa.ArrowNotImplementedError, TypeError):
+        return None
+    return pd.Series(out.to_numpy(zero_copy_only=False), index=col.index, dtype="float64")
 
 
 def _blank(col: pd.Series) -> np.ndarray:
@@ -497,7 +522,7 @@ def _dedupe_and_sort(df: pd.DataFrame, lines: np.ndarray, key: list[str], compar
             rejects.append((source, int(lines[i]), label or key[0], reason, str(df[key[0]].iloc[i])))
         df = df.loc[~dup]
         lines = lines[~dup]
-    t = df[key[0]].to_numpy()
+    t = _sortable(df[key[0]])
     if len(t) > 1 and (t[1:] < t[:-1]).any():
         order = np.argsort(t, kind="stable")
         n_out = int((t[1:] < t[:-1]).sum())
@@ -505,6 +530,12 @@ def _dedupe_and_sort(df: pd.DataFrame, lines: np.ndarray, key: list[str], compar
         df = df.iloc[order]
         lines = lines[order]
     return df.reset_index(drop=True), lines
+
+
+def _sortable(col: pd.Series) -> np.ndarray:
+    if isinstance(col.dtype, pd.DatetimeTZDtype):
+        return col.to_numpy(dtype="datetime64[ns]")
+    return col.to_numpy()
 
 
 def _same(a, b) -> bool:
@@ -583,11 +614,13 @@ def _build_series(path: Path, raw: RawTable, plan: Plan, options: ReadOptions, r
             basis = options.volume_basis or volume_basis_in(header) or _basis_from_meta(raw)
         values = _numeric(raw.frame[col])
         v = values.to_numpy()
-        blank = _blank(raw.frame[col])
-        rej.reject(blank, col, "missing value")
-        nan_text = raw.frame[col].astype("string").str.strip().str.lower().isin(["nan", "na", "n/a", "null", "none"])
-        rej.reject(nan_text.to_numpy(dtype=bool, na_value=False), col, "missing value (NaN)", raw.frame[col])
-        rej.reject(np.isnan(v) & ~blank, col, "not a number", raw.frame[col])
+        if np.isnan(v).any():  # only then look at why (the clean case skips the string work)
+            blank = _blank(raw.frame[col])
+            rej.reject(blank, col, "missing value")
+            nan_text = (raw.frame[col].astype("string").str.strip().str.lower()
+                        .isin(["nan", "na", "n/a", "null", "none"]))
+            rej.reject(nan_text.to_numpy(dtype=bool, na_value=False), col, "missing value (NaN)", raw.frame[col])
+            rej.reject(np.isnan(v) & ~blank, col, "not a number", raw.frame[col])
         rej.reject(np.isin(v, MISSING_CODES), col, lambda i, _v=v: f"missing-value code {_v[i]:g}", raw.frame[col])
         rej.reject(np.isinf(v), col, "infinite value", raw.frame[col])
         if kind in NONNEGATIVE_KINDS and not options.allow_negative:
@@ -603,7 +636,7 @@ def _build_series(path: Path, raw: RawTable, plan: Plan, options: ReadOptions, r
             rej.reject(neg_u, ucol, "negative uncertainty", raw.frame[ucol])
         values_si = v * factor
         if kind in ("erupted_volume", "extrusion_rate") and basis == "bulk":
-            dre = _dre_factor(options, raw)
+            dre = _dre_factor(options, raw, source)
             if dre is not None:
                 f_dre, text = dre
                 values_si = values_si * f_dre
@@ -708,18 +741,24 @@ def _basis_from_meta(raw: RawTable) -> str | None:
     return None
 
 
-def _dre_factor(options: ReadOptions, raw: RawTable) -> tuple[float, str] | None:
-    """Factor bulk -> DRE: (1 - vesicularity) or bulk/dense density; None when nothing was stated."""
+def _dre_factor(options: ReadOptions, raw: RawTable, source: str) -> tuple[float, str] | None:
+    """Factor bulk -> DRE from options or the file's preamble; None when nothing was stated."""
+    from degas.volumes import dre_factor
+
     ves = options.vesicularity if options.vesicularity is not None else _meta_float(raw, "vesicularity")
-    where = "option" if options.vesicularity is not None else "file header"
-    if ves is not None:
-        if not 0 <= ves < 1:
-            raise InputError(raw.headers[0] if raw.headers else "?", f"vesicularity must be in [0, 1), got {ves}")
-        return 1.0 - ves, f"bulk volume converted to DRE with vesicularity {ves:g} (from {where}): V_DRE = V_bulk (1 - φ)"
     rb = options.bulk_density if options.bulk_density is not None else _meta_float(raw, "bulk density")
-    rd = options.dense_density if options.dense_density is not None else _meta_float(raw, "dense density", "dre density")
-    if rb is not None and rd is not None:
-        return rb / rd, f"bulk volume converted to DRE with densities {rb:g}/{rd:g} kg/m³: V_DRE = V_bulk ρ_bulk/ρ_DRE"
+    rd = options.dense_density if options.dense_density is not None else _meta_float(raw, "dense density",
+                                                                                    "dre density")
+    try:
+        if ves is not None:
+            where = "option" if options.vesicularity is not None else "file header"
+            return dre_factor(vesicularity=ves), (f"bulk volume converted to DRE with vesicularity {ves:g} "
+                                                  f"(from {where}): V_DRE = V_bulk (1 - φ)")
+        if rb is not None and rd is not None:
+            return dre_factor(bulk_density=rb, dense_density=rd), (
+                f"bulk volume converted to DRE with densities {rb:g}/{rd:g} kg/m³: V_DRE = V_bulk ρ_bulk/ρ_DRE")
+    except DegasError as exc:
+        raise InputError(source, str(exc)) from None
     return None
 
 

@@ -67,6 +67,10 @@ def parse_times(
             assumptions.append(f"numeric times read as {fmt.replace('_', ' ')} (detected from their range)")
         return ParsedTimes(_from_numeric(numeric, fmt), fmt, tuple(assumptions))
 
+    if fmt in (None, "iso") and not dayfirst:
+        fast = _arrow_iso(raw, timezone)
+        if fast is not None:
+            return ParsedTimes(fast[0], "iso", tuple(assumptions) + fast[1])
     s = raw.astype("string").str.strip()
     if fmt is not None and "%" in fmt:
         parsed = pd.to_datetime(s, format=fmt, errors="coerce", utc=False)
@@ -77,10 +81,38 @@ def parse_times(
     else:
         parsed = _parse_iso(s)
         used = "iso"
+        if isinstance(parsed, tuple):
+            aware, naive = parsed
+            local, a = _localise(naive, timezone)
+            aware.loc[naive.index] = local
+            return ParsedTimes(aware, "iso (mixed offsets and naive)", tuple(assumptions) + a)
     if isinstance(parsed.dtype, pd.DatetimeTZDtype):
         return ParsedTimes(_to_ns(parsed), used, tuple(assumptions))
     t, a = _localise(parsed, timezone)
     return ParsedTimes(t, used, tuple(assumptions) + a)
+
+
+def _arrow_iso(raw: pd.Series, timezone: str | None) -> tuple[pd.Series, tuple[str, ...]] | None:
+    """Fast path for clean ISO 8601 columns (all with offsets, or all naive); None when any cell is unusual."""
+    import pyarrow as pa
+    import pyarrow.compute as pc
+
+    try:
+        arr = pa.array(raw, type=pa.string(), from_pandas=True)
+    except (pa.ArrowInvalid, pa.ArrowTypeError, TypeError):
+        return None
+    if arr.null_count:
+        return None
+    try:
+        ts = pc.cast(arr, pa.timestamp("ns", tz="UTC"))
+        return pd.Series(ts.to_pandas(), index=raw.index).astype("datetime64[ns, UTC]"), ()
+    except (pa.ArrowInvalid, pa.ArrowNotImplementedError):
+        pass
+    try:
+        naive = pc.cast(arr, pa.timestamp("ns"))
+    except (pa.ArrowInvalid, pa.ArrowNotImplementedError):
+        return None
+    return _localise(pd.Series(naive.to_pandas(), index=raw.index), timezone)
 
 
 def _parse_iso(s: pd.Series) -> pd.Series:
@@ -95,10 +127,11 @@ def _parse_iso(s: pd.Series) -> pd.Series:
             out = out.copy()
             out[bad] = pd.to_datetime(s[bad], errors="coerce", format="mixed")
         return out
-    # a mix of aware and naive cells: refuse to guess which is which
+    # a mix of aware and naive cells: aware ones carry their offset; naive ones get the stated zone later
     out = pd.Series(pd.NaT, index=s.index, dtype="datetime64[ns, UTC]")
-    out[has_offset] = pd.to_datetime(s[has_offset], format="ISO8601", errors="coerce", utc=True)
-    return out  # naive cells stay NaT and are reported as rejected ("mixed naive/offset times")
+    out[has_offset] = _to_ns(pd.to_datetime(s[has_offset], format="ISO8601", errors="coerce", utc=True))
+    naive = pd.to_datetime(s[~has_offset], format="ISO8601", errors="coerce")
+    return out, naive
 
 
 def _parse_dayfirst(s: pd.Series) -> pd.Series:

@@ -63,10 +63,12 @@ def test_bad_cells_become_nat_not_errors():
     assert p.times.iloc[1:].isna().all()
 
 
-def test_mixed_naive_and_offset_cells_are_not_guessed():
+def test_mixed_naive_and_offset_cells_naive_ones_take_the_stated_zone():
     p = parse_times(pd.Series(["2024-01-01T00:00Z", "2024-01-01T01:00"]))
-    assert p.times.iloc[0] == t("2024-01-01")
-    assert pd.isna(p.times.iloc[1])
+    assert list(p.times) == [t("2024-01-01"), t("2024-01-01 01:00")]
+    assert any("UTC" in a for a in p.assumptions)
+    p = parse_times(pd.Series(["2024-01-01T00:00Z", "2024-01-01T01:00"]), timezone="+01:00")
+    assert list(p.times) == [t("2024-01-01"), t("2024-01-01 00:00")]
 
 
 def test_unknown_format_name():
