@@ -503,7 +503,7 @@ def _sha_and_prov(path: Path, reader: str, accepted: int, rejected: int, origina
 
 def _dedupe_and_sort(df: pd.DataFrame, lines: np.ndarray, key: list[str], compare: list[str], source: str,
                      rejects: list, notes: list[str], what: str,
-                     label: str | None = None) -> tuple[pd.DataFrame, np.ndarray]:
+                     label: str | None = None, sort_by: str | None = None) -> tuple[pd.DataFrame, np.ndarray]:
     """Reject later duplicates of a key (same or conflicting values), then sort by time."""
     if len(df) == 0:
         return df, lines
@@ -522,7 +522,7 @@ def _dedupe_and_sort(df: pd.DataFrame, lines: np.ndarray, key: list[str], compar
             rejects.append((source, int(lines[i]), label or key[0], reason, str(df[key[0]].iloc[i])))
         df = df.loc[~dup]
         lines = lines[~dup]
-    t = _sortable(df[key[0]])
+    t = _sortable(df[sort_by or key[0]])
     if len(t) > 1 and (t[1:] < t[:-1]).any():
         order = np.argsort(t, kind="stable")
         n_out = int((t[1:] < t[:-1]).sum())
@@ -894,9 +894,8 @@ def _build_catalog(path: Path, raw: RawTable, plan: Plan, options: ReadOptions, 
     df = df.loc[alive]
     lines = raw.lines[alive]
     rows = rej.rows
-    df, lines = _dedupe_and_sort(df, lines, ["event_id"], ["time", "magnitude"], source, rows, notes, "event id")
-    order = np.argsort(df["time"].to_numpy(), kind="stable")
-    df = df.iloc[order].reset_index(drop=True)
+    df, lines = _dedupe_and_sort(df, lines, ["event_id"], ["time", "magnitude"], source, rows, notes, "event id",
+                                 plan.roles.get("event_id"), sort_by="time")
     no_mag = int(df["magnitude"].isna().sum())
     if no_mag:
         notes.append(f"{source}: {no_mag} event(s) without magnitude: counted, but excluded from energy and b-value")

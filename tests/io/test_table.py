@@ -279,3 +279,24 @@ def test_corrupted_files_never_raise_anything_but_degas_errors(write, cut, junk,
         read(path)
     except DegasError:
         pass
+
+
+def test_catalogue_csv_with_local_codes(write):
+    text = ("origin time (UTC),type,Md,depth (km),lat,lon\n"
+            "2024-01-01 00:30:00,Hyb,0.8,2.0,1.2,102.3\n"
+            "2024-01-01 00:10:00,VT,1.2,3.5,1.2,102.3\n"
+            "2024-01-01 00:20:00,lp,,,,\n"
+            "2024-01-01 00:50:00,RF,,,,\n"
+            "2024-01-01 00:55:00,VT,abc,1,1,1\n")
+    res = read(write("cat.csv", text), ReadOptions(class_map={"Hyb": "hybrid"}))
+    (cat,) = res.records
+    d = cat.data
+    assert cat.meta.kind == "seismic_catalog"
+    assert d["event_class"].tolist() == ["VT", "LP", "hybrid", "rockfall"]
+    assert d["source_type"].tolist() == ["VT", "lp", "Hyb", "RF"]
+    assert d["depth_m"].iloc[0] == pytest.approx(3500.0)  # km -> m
+    assert d["magnitude_type"].iloc[0] == "Md"  # magnitude type taken from the header "Md"
+    assert pd.isna(d["magnitude"].iloc[1]) and pd.isna(d["magnitude_type"].iloc[1])
+    assert d["time"].is_monotonic_increasing and d["event_id"].is_unique
+    assert any("without magnitude" in n for n in res.notes)
+    assert res.rejects.iloc[0]["line"] == 6 and "not a number" in res.rejects.iloc[0]["reason"]
