@@ -44,6 +44,7 @@ from degas.model import (
     SeriesMeta,
     TimeSeries,
 )
+from degas.safecsv import protect_frame
 
 MANIFEST = "manifest.json"
 FORMAT_NAME = "degas-archive"
@@ -323,7 +324,7 @@ class Archive:
             rej_file = None
             if len(rejects):
                 rej_file = f"rejects/g{gen}-{sha[:8]}.csv"
-                _atomic_write_text(self.root / rej_file, _protect_csv(rejects).to_csv(index=False))
+                _atomic_write_text(self.root / rej_file, protect_frame(rejects).to_csv(index=False))
             source = {
                 "name": path.name, "ingested_at": pd.Timestamp.now(tz="UTC").isoformat(timespec="seconds"),
                 "reader": report.reader, "accepted": report.accepted, "rejected": report.rejected,
@@ -467,21 +468,6 @@ def _largest_gap(t: pd.Series) -> float | None:
 
 def _safe(sid: str) -> str:
     return re.sub(r"[^A-Za-z0-9_.-]+", "-", sid)
-
-
-def _protect_csv(df: pd.DataFrame) -> pd.DataFrame:
-    """Prefix cells that a spreadsheet would run as a formula (= + - @) with an apostrophe."""
-    out = df.copy()
-    for c in out.columns:
-        if out[c].dtype == object or pd.api.types.is_string_dtype(out[c].dtype):
-            s = out[c].astype("string")
-            risky = s.str.match(r"^[=+\-@\t\r]").fillna(False).to_numpy(dtype=bool)
-            numeric = pd.to_numeric(s, errors="coerce").notna().to_numpy()
-            mask = risky & ~numeric
-            if mask.any():
-                s = s.where(~mask, "'" + s)
-            out[c] = s
-    return out
 
 
 def _fsync_file(path: Path) -> None:
