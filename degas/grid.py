@@ -63,7 +63,8 @@ def make_grid(start: pd.Timestamp, end: pd.Timestamp, step: str | pd.Timedelta) 
     return Grid(origin, td, max(n, 0))
 
 
-def _bin_index(times: pd.Series, grid: Grid) -> np.ndarray:
+def bin_index(times: pd.Series, grid: Grid) -> np.ndarray:
+    """Index of the bin of each time (may be < 0 or >= grid.n for times outside the grid)."""
     ns = times.to_numpy(dtype="datetime64[ns]").astype("int64")
     return (ns - grid.origin.value) // grid.step.value
 
@@ -126,7 +127,7 @@ def resample(
     if series.is_interval:
         _resample_intervals(df, grid, out_val, out_unc, count, coverage)
     else:
-        idx = _bin_index(df["time"], grid)
+        idx = bin_index(df["time"], grid)
         ok = (idx >= 0) & (idx < grid.n) & np.isfinite(df["value"].to_numpy())
         idx = idx[ok]
         v = df["value"].to_numpy()[ok]
@@ -232,13 +233,17 @@ def event_counts(
     df = catalog.data
     if classes is None:
         classes = tuple(sorted(df["event_class"].dropna().unique()))
-    idx = _bin_index(df["time"], grid)
+    idx = bin_index(df["time"], grid)
     inside = (idx >= 0) & (idx < grid.n)
+    codes, uniques = pd.factorize(df["event_class"].to_numpy()[inside], use_na_sentinel=True)
+    k = len(uniques)
+    flat = np.bincount(codes[codes >= 0] * grid.n + idx[inside][codes >= 0], minlength=k * grid.n)
+    per_class = flat.reshape(k, grid.n) if k else np.zeros((0, grid.n), dtype="int64")
+    position = {str(u): i for i, u in enumerate(uniques)}
     out = {}
-    cls = df["event_class"].to_numpy()
     for c in classes:
-        sel = inside & (cls == c)
-        out[c] = np.bincount(idx[sel], minlength=grid.n).astype("int64")
+        i = position.get(c)
+        out[c] = per_class[i].astype("int64") if i is not None else np.zeros(grid.n, dtype="int64")
     out["total"] = np.bincount(idx[inside], minlength=grid.n).astype("int64")
     return pd.DataFrame(out, index=pd.Index(grid.starts, name="time"))
 

@@ -7,6 +7,8 @@ import shutil
 from pathlib import Path
 
 import typer
+from rich import box
+from rich.console import Console
 from rich.progress import BarColumn, Progress, TextColumn, TimeElapsedColumn
 from rich.table import Table
 
@@ -113,15 +115,17 @@ def print_inventory(archive: Archive, *, as_json: bool = False) -> None:
     if as_json:
         console.print_json(json.dumps(rows))
         return
-    table = Table(title=f"degas archive {archive.root}", show_lines=False)
-    for col in ("series", "kind", "station", "first", "last", "count", "largest gap", "unit", "sources"):
-        table.add_column(col, overflow="fold")
+    table = Table(title=f"degas archive {archive.root}", box=box.SIMPLE_HEAD, pad_edge=False)
+    table.add_column("series", no_wrap=True)
+    for col in ("from", "to", "count", "gap", "unit"):
+        table.add_column(col, no_wrap=True, justify="right" if col in ("count", "gap") else "left")
+    table.add_column("sources", overflow="fold")
     for r in rows:
         gap = "" if r["largest_gap_days"] is None else f"{r['largest_gap_days']:.1f} d"
-        unit = r["unit"] + (f" ({r['basis']})" if r["basis"] else "")
-        table.add_row(r["series"], r["kind"], r["station"], (r["first"] or "")[:16], (r["last"] or "")[:16],
-                      str(r["count"]), gap, unit, ", ".join(r["sources"]))
-    console.print(table)
+        unit = r["unit"] + (f" {r['basis'].upper()}" if r["basis"] else "")
+        table.add_row(r["series"], (r["first"] or "")[:10], (r["last"] or "")[:10], str(r["count"]), gap, unit,
+                      ", ".join(r["sources"]))
+    Console(width=max(console.width, 150), highlight=False).print(table)
     n_rej = len(archive.rejects())
     console.print(f"{len(rows)} series from {len(archive.sources())} file(s); {n_rej} rejected row(s) on record",
                   markup=False)
