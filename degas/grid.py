@@ -76,6 +76,9 @@ def grid_for(records, step: str | pd.Timedelta, start=None, end=None) -> Grid:
         a, b = r.span
         if a is not None:
             lo.append(a)
+            ends = r.data["end"] if "end" in r.data.columns else None
+            if ends is not None and ends.notna().any() and b == ends.max():
+                b = b - pd.Timedelta(1, "ns")  # interval ends are exclusive: no empty bin after them
             hi.append(b)
     if start is None:
         if not lo:
