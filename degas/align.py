@@ -24,7 +24,7 @@ import numpy as np
 import pandas as pd
 
 from degas.errors import DegasError, NotEnoughDataError
-from degas.grid import Grid, eruptive_fraction, event_counts, grid_for, resample
+from degas.grid import Grid, bin_index, eruptive_fraction, event_counts, grid_for, resample
 from degas.model import Chronology, EventCatalog, TimeSeries
 
 #: Kinds that can stand for magma output in a coupling analysis.
@@ -33,11 +33,10 @@ GAS_KINDS = ("gas_flux",)
 
 
 def event_energy_j(magnitude) -> np.ndarray:
-    """Radiated energy (J) from magnitude: log10 E = 1.5 M + 4.8 (Gutenberg & Richter 1956, approximate).
+    """Radiated energy (J) from magnitude; the relation lives in the seismicity module (one place)."""
+    from degas.analysis.seismicity import energy_from_magnitude
 
-    Local helper; to be de-duplicated with the seismicity module once both exist.
-    """
-    return 10.0 ** (1.5 * np.asarray(magnitude, dtype="float64") + 4.8)
+    return energy_from_magnitude(magnitude)
 
 
 @dataclass(frozen=True)
@@ -164,8 +163,7 @@ def align(
 
 def _energy_per_bin(catalog: EventCatalog, grid: Grid) -> np.ndarray:
     df = catalog.data
-    t = df["time"].to_numpy(dtype="datetime64[ns]").astype("int64")
-    b = (t - grid.origin.value) // grid.step.value
+    b = bin_index(df["time"], grid)
     mag = df["magnitude"].to_numpy(dtype="float64", na_value=np.nan)
     ok = (b >= 0) & (b < grid.n) & np.isfinite(mag)
     return np.bincount(b[ok], weights=event_energy_j(mag[ok]), minlength=grid.n)
