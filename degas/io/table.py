@@ -874,8 +874,6 @@ def _build_catalog(path: Path, raw: RawTable, plan: Plan, options: ReadOptions, 
         notes.append(f"{source}: no event type column; every event classed as other")
     mapping = map_event_classes(labels, options.class_map)
     assumptions.extend(mapping.assumptions)
-    if mapping.unknown:
-        notes.append(f"{source}: unknown event types mapped to other: {', '.join(map(str, mapping.unknown))}")
     if "event_id" in plan.roles:
         ids = raw.frame[plan.roles["event_id"]].astype("string").str.strip()
         blank_id = ids.isna() | (ids == "")
