@@ -174,9 +174,24 @@ def build_demo_archive(src: Path, archive_dir: Path) -> Archive:
 @app.command("demo")
 def demo(
     archive_dir: Path = typer.Option(Path("reports/demo-archive"), "--archive", help="Where to build the archive."),
+    out: Path = typer.Option(Path("reports"), help="Folder for the report."),
+    appendix: Path | None = typer.Option(None, help="Also write the appendix tables and figures here."),
 ) -> None:
-    """Run the main job on the bundled invented volcano: ingest demo_series/ and show the inventory."""
+    """The main job on the bundled invented volcano: ingest demo_series/, run every analysis, write the report."""
+    from degas.pipeline import run_all
+    from degas.project import load_project
+    from degas.report import write_report
+
     src = demo_source_dir()
     console.print(f"demo data: {src}", markup=False)
     archive = build_demo_archive(src, archive_dir)
     print_inventory(archive)
+    project = load_project(src / "velmarra.toml")
+    with err_console.status("running the analyses") as status:
+        bundle = run_all(archive, project, mode="retrospective",
+                         progress=lambda name: status.update(f"running: {name}"))
+    path = write_report(bundle, out, appendix)
+    from degas.cli.report_cmds import print_summary
+
+    print_summary(bundle)
+    console.print(f"report: {path}", markup=False)

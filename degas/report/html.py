@@ -41,7 +41,8 @@ h2{font-size:1.15em;border-bottom:2px solid #c9b98a;padding-bottom:4px}
 table.data{border-collapse:collapse;font-size:.86em;margin:8px 0}
 table.data th,table.data td{border:1px solid #d6d2c4;padding:3px 7px;text-align:right}
 table.data th{background:#ece7d8}
-table.data td.t{text-align:left}
+table.data td.t{text-align:left;max-width:420px}
+.scroll{overflow-x:auto}
 .figure{margin:12px 0;background:#fff;border:1px solid #e3dfd2}
 .caption{font-size:.85em;color:#4a555b;margin:4px 8px 10px}
 footer{font-size:.82em;color:#4a555b;border-top:1px solid #d6d2c4;padding:12px 28px}
@@ -64,13 +65,15 @@ def table_html(df: pd.DataFrame, max_rows: int = 200, float_format: str = "{:.4g
             if isinstance(v, float):
                 txt, cls = ("" if pd.isna(v) else float_format.format(v)), ""
             elif isinstance(v, pd.Timestamp):
-                txt, cls = (v.strftime("%Y-%m-%d %H:%M") if not pd.isna(v) else ""), "t"
+                fmt = "%Y-%m-%d" if not pd.isna(v) and v == v.normalize() else "%Y-%m-%d %H:%M"
+                txt, cls = (v.strftime(fmt) if not pd.isna(v) else ""), "t"
             else:
                 txt, cls = ("" if v is None or v is pd.NA else str(v)), "t"
             cells.append(f'<td class="{cls}">{esc(txt)}</td>' if cls else f"<td>{esc(txt)}</td>")
         rows.append("<tr>" + "".join(cells) + "</tr>")
     more = f'<p class="caption">{len(df) - max_rows} more rows in the appendix files.</p>' if len(df) > max_rows else ""
-    return f'<table class="data"><thead><tr>{head}</tr></thead><tbody>{"".join(rows)}</tbody></table>{more}'
+    return (f'<div class="scroll"><table class="data"><thead><tr>{head}</tr></thead><tbody>{"".join(rows)}</tbody>'
+            f'</table></div>{more}')
 
 
 @dataclass

@@ -1,0 +1,103 @@
+"""Commands of the weekly routine: ``weekly`` (the review table and summary) and ``report`` (the HTML)."""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+import pandas as pd
+import typer
+from rich import box
+from rich.console import Console
+from rich.table import Table
+
+from degas.cli._app import app, console, err_console
+from degas.errors import DegasError
+from degas.project import Project, load_project
+from degas.store import Archive
+
+
+def _project(project: Path | None, archive: Archive) -> Project:
+    if project is not None:
+        return load_project(project)
+    return Project(volcano=archive.root.resolve().name)
+
+
+def _run(archive_dir: Path, project: Path | None, before: str | None, start: str | None, end: str | None):
+    from degas.pipeline import run_all
+
+    archive = Archive.open(archive_dir)
+    proj = _project(project, archive)
+    if (start or end) and before:
+        raise DegasError("give either --before (weekly review) or --start/--end (retrospective), not both")
+    mode = "retrospective" if (start or end) else "weekly"
+
+    def _ts(x):
+        if x is None:
+            return None
+        try:
+            t = pd.Timestamp(x)
+        except ValueError:
+            raise DegasError(f"cannot read the date {x!r}; use YYYY-MM-DD") from None
+        return t.tz_localize("UTC") if t.tzinfo is None else t.tz_convert("UTC")
+
+    with err_console.status("running the analyses") as status:
+        bundle = run_all(archive, proj, mode=mode, before=_ts(before), start=_ts(start), end=_ts(end),
+                         progress=lambda name: status.update(f"running: {name}"))
+    return bundle
+
+
+def print_summary(bundle) -> None:
+    from degas.report.summary import summarise
+
+    for s in summarise(bundle):
+        console.print(f"- {s.text}", markup=False)
+
+
+@app.command("weekly")
+def weekly(
+    archive_dir: Path = typer.Argument(..., help="Archive directory."),
+    project: Path | None = typer.Option(None, help="Project TOML of the volcano (series, thresholds, petrology)."),
+    before: str | None = typer.Option(None, help="Review the last complete 7 UTC days before this date "
+                                                 "(default: after the newest datum)."),
+    csv: Path | None = typer.Option(None, "--csv", help="Write the review table to CSV."),
+) -> None:
+    """The Monday review: each series' week against its 90-day baseline, seismic rates, and a summary."""
+    from degas.safecsv import protect_frame
+
+    bundle = _run(archive_dir, project, before, None, None)
+    per = bundle.periods
+    t = Table(title=f"Week {per.window_start:%Y-%m-%d} to {(per.window_end - pd.Timedelta('1D')):%Y-%m-%d} vs "
+                    f"{per.baseline_days:.0f}-day baseline", box=box.SIMPLE_HEAD)
+    for c in ("series", "unit", "week", "baseline", "ratio (95 %)", "robust z", "trend/day", "MK p", "coverage"):
+        t.add_column(c, no_wrap=True)
+    rows = [r.to_row() for r in bundle.review]
+    for r in rows:
+        t.add_row(r["series"], r["unit"], f"{r['level_window']:.3g}", f"{r['level_baseline']:.3g}",
+                  f"{r['ratio']:.2f} ({r['ratio_low']:.2f}-{r['ratio_high']:.2f})", f"{r['robust_z']:.2f}",
+                  f"{r['trend_per_day']:+.3g}", f"{r['mann_kendall_p']:.2f}", f"{r['coverage_window']:.0%}")
+    Console(width=max(console.width, 150), highlight=False).print(t)
+    print_summary(bundle)
+    if csv is not None:
+        protect_frame(pd.DataFrame(rows)).to_csv(csv, index=False)
+        console.print(f"wrote {csv}", markup=False)
+
+
+@app.command("report")
+def report(
+    archive_dir: Path = typer.Argument(..., help="Archive directory."),
+    project: Path | None = typer.Option(None, help="Project TOML of the volcano."),
+    before: str | None = typer.Option(None, help="Weekly review of the 7 days before this date (default)."),
+    start: str | None = typer.Option(None, help="Retrospective: first day of the episode."),
+    end: str | None = typer.Option(None, help="Retrospective: last day of the episode."),
+    out: Path = typer.Option(Path("reports"), help="Folder for the HTML report."),
+    appendix: Path | None = typer.Option(None, help="Also write tables (CSV, Markdown, LaTeX) and figures here."),
+) -> None:
+    """Write the self-contained HTML report (weekly review, or a retrospective with --start/--end)."""
+    from degas.report import write_report
+
+    bundle = _run(archive_dir, project, before, start, end)
+    path = write_report(bundle, out, appendix)
+    print_summary(bundle)
+    console.print(f"report: {path}", markup=False)
+    if appendix is not None:
+        console.print(f"appendix: {appendix}", markup=False)

@@ -1,0 +1,377 @@
+"""The main job: every analysis on an archive, gathered for the report.
+
+This module only strings library calls together (like the CLI, but returning values): pick the series,
+align them, detect change points, label regimes, cross-correlate, test Granger, run the budget, the
+seismicity metrics and the weekly review. A step that cannot run (too little data, say) is recorded with its
+reason instead of stopping the whole run: a report that says what it could not do is more useful on a
+Monday morning than no report.
+"""
+
+from __future__ import annotations
+
+import time
+import warnings
+from dataclasses import dataclass, field
+
+import numpy as np
+import pandas as pd
+
+from degas.errors import DegasError
+from degas.project import Project
+from degas.store import Archive, SeriesEntry, entry_display
+
+
+@dataclass
+class RunBundle:
+    """Results of one run (mutable while the run fills it; read-only by convention afterwards)."""
+
+    project: Project
+    archive_root: str
+    mode: str  # "weekly" or "retrospective"
+    start: pd.Timestamp
+    end: pd.Timestamp
+    run_time: str
+    inventory: list[dict]
+    sources: dict
+    assumptions: list[str]
+    roles: dict[str, str | tuple[str, ...]]
+    records: dict = field(default_factory=dict)  # name -> canonical record used (full data)
+    aligned: object | None = None  # AlignedTable on the analysis grid
+    changepoints: dict = field(default_factory=dict)  # name -> ChangePointResult
+    regimes: object | None = None
+    xcorr: object | None = None
+    xcorr_intervals: list = field(default_factory=list)  # (start, end, label, CrossCorrelationResult)
+    rolling: object | None = None
+    granger: object | None = None
+    budget: object | None = None
+    co2: object | None = None
+    seismic: dict = field(default_factory=dict)
+    periods: object | None = None
+    review: list = field(default_factory=list)
+    review_events: tuple = ()
+    review_regime: dict = field(default_factory=dict)
+    timings: list[tuple[str, float]] = field(default_factory=list)
+    skipped: list[str] = field(default_factory=list)
+    notes: list[str] = field(default_factory=list)
+
+
+def _pick(entries: list[SeriesEntry], kind: str, prefer_species: str | None = None) -> list[SeriesEntry]:
+    out = [e for e in entries if e.meta.kind == kind]
+    if prefer_species:
+        out = [e for e in out if (e.meta.species or "").upper() == prefer_species] or out
+    return out
+
+
+def choose_roles(archive: Archive, project: Project) -> dict:
+    """Which stored series are the gas, magma-output, ratio and catalogue of this run."""
+    entries = archive.entries()
+    ids = {e.series_id for e in entries}
+    for sid in (*project.gas, project.magma, project.ratio, project.catalog):
+        if sid and sid not in ids:
+            stored = ", ".join(sorted(ids))
+            raise DegasError(f"project names series {sid!r}, which is not in the archive; stored: {stored}")
+    gas = project.gas or tuple(e.series_id for e in _pick(entries, "gas_flux", "SO2")
+                               if (e.meta.species or "").upper() == "SO2")
+    magma = project.magma
+    magma_is = None
+    if magma is None:
+        for kind in ("extrusion_rate", "erupted_volume", "chronology"):
+            cands = _pick(entries, kind)
+            if cands:
+                magma = max(cands, key=lambda e: e.n_rows).series_id
+                magma_is = kind
+                break
+    ratio = project.ratio or next((e.series_id for e in _pick(entries, "gas_ratio")), None)
+    cats = _pick(entries, "seismic_catalog")
+    catalog = project.catalog or (max(cats, key=lambda e: e.n_rows).series_id if cats else None)
+    chron = next((e.series_id for e in _pick(entries, "chronology")), None)
+    amps = tuple(e.series_id for e in _pick(entries, "amplitude"))
+    if magma is not None and magma_is is None:
+        magma_is = archive.entry(magma).meta.kind
+    return {"gas": tuple(gas), "magma": magma, "magma_kind": magma_is, "ratio": ratio, "catalog": catalog,
+            "chronology": chron, "amplitude": amps}
+
+
+def run_all(archive: Archive, project: Project, *, mode: str = "weekly", before: pd.Timestamp | None = None,
+            start: pd.Timestamp | None = None, end: pd.Timestamp | None = None, progress=None) -> RunBundle:
+    """Run every analysis. ``mode`` "weekly": review window before ``before`` (default: the day after the last
+    datum); "retrospective": the episode from ``start`` to ``end`` (default: the whole record)."""
+    from degas.analysis.review import review_periods
+
+    if mode not in ("weekly", "retrospective"):
+        raise DegasError(f"unknown mode {mode!r}; valid: weekly, retrospective")
+    roles = choose_roles(archive, project)
+    if not roles["gas"] and roles["magma"] is None and roles["catalog"] is None:
+        raise DegasError(f"{archive.root}: no gas, magma-output or seismic series to analyse")
+    inv = [entry_display(e) for e in archive.entries()]
+    spans = [(pd.Timestamp(r["first"]), pd.Timestamp(r["last"])) for r in inv if r["first"]]
+    data_start = min(s for s, _ in spans)
+    data_end = max(e for _, e in spans)
+    assumptions = sorted({a for e in archive.entries() for p in e.provenance for a in p.assumptions})
+    b = RunBundle(project, str(archive.root), mode, data_start, data_end,
+                  pd.Timestamp.now(tz="UTC").isoformat(timespec="seconds"), inv, archive.sources(), assumptions, roles)
+    if mode == "weekly":
+        before = pd.Timestamp(before) if before is not None else (data_end + pd.Timedelta("1D")).floor("D")
+        before = before.tz_localize("UTC") if before.tzinfo is None else before
+        b.periods = review_periods(before, window_days=project.window_days, baseline_days=project.baseline_days)
+        b.end = min(data_end, b.periods.window_end)
+    else:
+        b.start = pd.Timestamp(start, tz="UTC") if start is not None and pd.Timestamp(start).tzinfo is None else (
+            pd.Timestamp(start) if start is not None else data_start)
+        b.end = pd.Timestamp(end, tz="UTC") if end is not None and pd.Timestamp(end).tzinfo is None else (
+            pd.Timestamp(end) if end is not None else data_end)
+        if b.end <= b.start:
+            raise DegasError("the episode end must be after its start")
+        # the review table of a retrospective covers the last days of the episode
+        b.periods = review_periods(b.end + pd.Timedelta(1, "ns") if b.end == b.end.floor("D") else b.end.ceil("D"),
+                                   window_days=project.window_days, baseline_days=project.baseline_days)
+
+    def step(name: str, fn) -> None:
+        t0 = time.perf_counter()
+        if progress:
+            progress(name)
+        try:
+            fn()
+        except DegasError as exc:
+            b.skipped.append(f"{name}: not run: {exc}")
+        b.timings.append((name, time.perf_counter() - t0))
+
+    step("load and align", lambda: _align(archive, b))
+    step("change points", lambda: _changepoints(b))
+    step("regimes", lambda: _regimes(b))
+    step("cross-correlation", lambda: _xcorr(b))
+    step("rolling coupling", lambda: _rolling(b))
+    step("Granger tests", lambda: _granger(b))
+    step("gas budget", lambda: _budget(b))
+    step("seismicity", lambda: _seismicity(b))
+    step("weekly review", lambda: _review(b))
+    return b
+
+
+def _clip(rec, start, end):
+    col = "start" if "start" in rec.data.columns and "value" not in rec.data.columns else "time"
+    t = rec.data[col]
+    return rec.with_data(rec.data.loc[(t >= start) & (t <= end)].reset_index(drop=True))
+
+
+def _align(archive: Archive, b: RunBundle) -> None:
+    from degas.align import align
+    from degas.volumes import rates_from_cumulative
+
+    recs = {}
+    for sid in b.roles["gas"]:
+        recs[sid] = archive.load(sid)
+    if b.roles["magma"]:
+        m = archive.load(b.roles["magma"])
+        if m.meta.kind == "erupted_volume":
+            m = rates_from_cumulative(m)
+            b.notes.append(f"magma output: mean extrusion rate between surveys of {b.roles['magma']}")
+        recs["magma"] = m
+    if b.roles["chronology"]:
+        recs["chronology"] = archive.load(b.roles["chronology"])
+    if b.roles["ratio"]:
+        recs["ratio"] = archive.load(b.roles["ratio"])
+    if b.roles["catalog"]:
+        recs["catalog"] = archive.load(b.roles["catalog"])
+    for sid in b.roles["amplitude"]:
+        recs[sid] = archive.load(sid)
+    if b.mode == "retrospective":
+        recs = {k: _clip(r, b.start, b.end) for k, r in recs.items()}
+    else:  # a weekly review sees only what was known at the end of its window
+        recs = {k: _clip(r, b.start, b.periods.window_end - pd.Timedelta(1, "ns")) for k, r in recs.items()}
+    b.records = recs
+    p = b.project
+    series_recs = {k: r for k, r in recs.items()}
+    b.aligned = align(series_recs, p.step, min_coverage=p.min_coverage,
+                      start=b.start if b.mode == "retrospective" else None,
+                      end=b.end if b.mode == "retrospective" else None)
+    gas_cols = [sid for sid in b.roles["gas"]]
+    if gas_cols:
+        f = b.aligned.frame
+        vals = f[gas_cols].to_numpy(dtype=float)
+        with np.errstate(all="ignore"), warnings.catch_warnings():
+            warnings.simplefilter("ignore", RuntimeWarning)  # days without any station: NaN, on purpose
+            combined = np.nanmean(vals, axis=1) if vals.size else np.full(len(f), np.nan)
+        b.aligned.frame["gas"] = combined
+        unc = f[[f"{c}_uncertainty" for c in gas_cols]].to_numpy(dtype=float)
+        n = np.sum(np.isfinite(vals), axis=1)
+        with np.errstate(all="ignore"):
+            b.aligned.frame["gas_uncertainty"] = np.sqrt(np.nansum(unc**2, axis=1)) / np.where(n > 0, n, np.nan)
+        kinds = dict(b.aligned.kinds)
+        kinds["gas"] = "gas_flux"
+        object.__setattr__(b.aligned, "kinds", kinds)
+        if len(gas_cols) > 1:
+            b.notes.append(f"gas flux: daily mean of the stations available each day ({', '.join(gas_cols)})")
+
+
+def _series(b: RunBundle, name: str) -> pd.Series:
+    return b.aligned.series(name)
+
+
+def _changepoints(b: RunBundle) -> None:
+    from degas.analysis.changepoints import detect_changepoints
+
+    p = b.project
+    kw = {"min_segment": p.min_segment, "max_gap": p.max_gap, "penalty": p.penalty}
+    targets = {}
+    if "gas" in b.aligned.kinds:
+        targets["gas"] = (b.aligned.frame[["gas"]], {"gas": "log"})
+    if "magma" in b.aligned.kinds:
+        kind = b.aligned.kinds["magma"]
+        targets["magma"] = (b.aligned.frame[["magma"]], {"magma": "identity"})
+        if kind == "chronology":
+            targets.pop("magma")
+    if "chronology" in b.aligned.kinds and "magma" not in targets:
+        targets["magma"] = (b.aligned.frame[["chronology"]].rename(columns={"chronology": "magma"}),
+                            {"magma": "identity"})
+    if "ratio" in b.aligned.kinds:
+        targets["ratio"] = (b.aligned.frame[["ratio"]], {"ratio": "identity"})
+    if "catalog" in b.aligned.kinds:
+        cls = [c for c in p.lp_classes if f"catalog_{c}" in b.aligned.frame.columns]
+        if cls:
+            lp = b.aligned.frame[[f"catalog_{c}" for c in cls]].sum(axis=1).to_frame("lp_hybrid_rate")
+            targets["lp_hybrid_rate"] = (lp, {"lp_hybrid_rate": "anscombe"})
+    for name, (frame, transform) in targets.items():
+        try:
+            b.changepoints[name] = detect_changepoints(frame, transform=transform, **kw)
+        except DegasError as exc:
+            b.skipped.append(f"change points of {name}: not run: {exc}")
+
+
+def _regimes(b: RunBundle) -> None:
+    from degas.analysis.regimes import classify_regimes, segments_table
+
+    if "gas" not in b.changepoints or "magma" not in b.changepoints:
+        raise DegasError("needs change points of both the gas flux and the magma output")
+    p = b.project
+    measure = "eruptive_fraction" if b.aligned.kinds.get("magma", "chronology") == "chronology" else "extrusion_rate"
+    b.regimes = classify_regimes(segments_table(b.changepoints["gas"], "gas"),
+                                 segments_table(b.changepoints["magma"], "magma"), magma_measure=measure,
+                                 gas_factor=p.gas_factor, magma_threshold=p.magma_threshold, ratio_low=p.ratio_low,
+                                 ratio_high=p.ratio_high)
+
+
+def _gas_magma(b: RunBundle) -> tuple[pd.Series, pd.Series]:
+    if "gas" not in b.aligned.kinds:
+        raise DegasError("no gas flux series in the archive")
+    mname = "magma" if "magma" in b.aligned.kinds else "chronology"
+    if mname not in b.aligned.kinds:
+        raise DegasError("no magma-output series (extrusion rate, survey volumes or chronology)")
+    return b.aligned.pair("gas", mname)
+
+
+def _xcorr(b: RunBundle) -> None:
+    from degas.analysis.xcorr import cross_correlate
+
+    p = b.project
+    g, m = _gas_magma(b)
+    b.xcorr = cross_correlate(g, m, max_lag=p.max_lag, variant=p.variant, n_surrogates=p.surrogates,
+                              n_boot=p.bootstrap, seed=p.seed, gas_name="SO2 flux", magma_name="magma output")
+    if b.regimes is not None:
+        for r in b.regimes.intervals.itertuples():
+            if r.label != "coupled" or r.duration_days < 60:
+                continue
+            sel = (g.index >= r.start) & (g.index < r.end)
+            try:
+                res = cross_correlate(g[sel], m[sel], max_lag=p.rolling_max_lag, variant=p.variant,
+                                      n_surrogates=p.surrogates, n_boot=p.bootstrap, seed=p.seed,
+                                      gas_name="SO2 flux", magma_name="magma output")
+            except DegasError as exc:
+                b.skipped.append(f"lag in coupled interval {r.start:%Y-%m-%d}: not run: {exc}")
+                continue
+            b.xcorr_intervals.append((r.start, r.end, r.label, res))
+
+
+def _rolling(b: RunBundle) -> None:
+    from degas.analysis.coupling import rolling_coupling
+
+    p = b.project
+    g, m = _gas_magma(b)
+    b.rolling = rolling_coupling(g, m, window=p.rolling_window, step=p.rolling_step, max_lag=p.rolling_max_lag,
+                                 n_surrogates=p.rolling_surrogates, variant=p.variant, seed=p.seed,
+                                 gas_name="SO2 flux", magma_name="magma output")
+
+
+def _granger(b: RunBundle) -> None:
+    from degas.analysis.granger import granger_test
+
+    g, m = _gas_magma(b)
+    b.granger = granger_test(g, m, max_lag="10D", gas_name="SO2 flux", magma_name="magma output")
+
+
+def _budget(b: RunBundle) -> None:
+    from degas.analysis.budget import PetrologyInputs, co2_flux, gas_budget
+
+    if b.aligned.kinds.get("magma") != "extrusion_rate":
+        raise DegasError("the budget needs an extrusion rate or survey volumes (a chronology gives no volume)")
+    g, q = b.aligned.pair("gas", "magma")
+    seg = None
+    if b.regimes is not None:
+        seg = b.regimes.intervals[["start", "end"]]
+    elif "gas" in b.changepoints:
+        seg = b.changepoints["gas"].segments[["start", "end"]]
+    petro = None
+    pp = b.project.petrology
+    if pp is not None:
+        petro = PetrologyInputs.from_ppm(pp.s_melt_inclusion_ppm, pp.s_matrix_glass_ppm,
+                                         s_mi_sd_ppm=pp.s_melt_inclusion_sd_ppm, s_mg_sd_ppm=pp.s_matrix_glass_sd_ppm,
+                                         density_kg_m3=pp.dense_density_kg_m3, density_sd=pp.dense_density_sd_kg_m3,
+                                         crystal_fraction=pp.crystal_fraction,
+                                         crystal_fraction_sd=pp.crystal_fraction_sd)
+    unc = b.aligned.frame.get("magma_uncertainty")
+    b.budget = gas_budget(g, q, so2_uncertainty=b.aligned.frame["gas_uncertainty"], extrusion_uncertainty=unc,
+                          segments=seg, petrology=petro, seed=b.project.seed)
+    if "ratio" in b.aligned.kinds:
+        b.co2 = co2_flux(g, b.aligned.series("ratio"), max_gap="7D")
+
+
+def _seismicity(b: RunBundle) -> None:
+    from degas.analysis import seismicity as s
+
+    if "catalog" not in b.records:
+        raise DegasError("no seismic catalogue in the archive")
+    cat = b.records["catalog"]
+    p = b.project
+    b.seismic["rates"] = s.event_rates(cat, p.step)
+    b.seismic["energy"] = s.seismic_energy(cat, p.step, allow_mixed_types=True)
+    b.seismic["fmd"] = s.frequency_magnitude(cat, allow_mixed_types=True)
+    try:
+        b.seismic["b_value"] = s.estimate_b_value(cat, allow_mixed_types=True)
+        b.seismic["b_series"] = s.b_value_series(cat, window=p.b_window_events, allow_mixed_types=True)
+    except DegasError as exc:
+        b.skipped.append(f"b-value: not run: {exc}")
+    try:
+        b.seismic["depths"] = s.summarise_depths(cat, "30D")
+    except DegasError as exc:
+        b.skipped.append(f"depth summary: not run: {exc}")
+
+
+def _review(b: RunBundle) -> None:
+    from degas.analysis.review import review_events, review_series
+    from degas.analysis.seismicity import estimate_b_value
+
+    per = b.periods
+    for rec in b.records.values():
+        if rec.meta.kind in ("chronology", "seismic_catalog"):
+            continue
+        b.review.append(review_series(rec, per, min_coverage=b.project.min_coverage, seed=b.project.seed))
+    if "catalog" in b.records:
+        cat = b.records["catalog"]
+        b.review_events = review_events(cat, per)
+        t = cat.data["time"]
+        for label, sel in (("window", (t >= per.window_start) & (t < per.window_end)),
+                           ("baseline", (t >= per.baseline_start) & (t < per.window_start))):
+            try:
+                b.review_regime[f"b_{label}"] = estimate_b_value(cat.with_data(cat.data.loc[sel]),
+                                                                 allow_mixed_types=True, min_events=30)
+            except DegasError as exc:
+                b.review_regime[f"b_{label}"] = str(exc)
+    if b.regimes is not None:
+        iv = b.regimes.intervals
+
+        def label_at(ts):
+            hit = iv[(iv["start"] <= ts) & (iv["end"] > ts)]
+            return None if hit.empty else hit["label"].iloc[0]
+
+        b.review_regime["window"] = label_at(per.window_end - pd.Timedelta("1s"))
+        b.review_regime["previous"] = label_at(per.window_start - pd.Timedelta("1s"))

@@ -1,0 +1,178 @@
+"""A volcano's project file (TOML): its series, reader options, petrology, baselines and thresholds.
+
+With it the weekly run is one command (``degas report ARCHIVE --project velmarra.toml``). Example::
+
+    [volcano]
+    name = "Velmarra"
+    observatory = "Velmarra Volcano Observatory"
+
+    [series]                      # which archive series play which role (default: detected)
+    gas = ["gas_flux.so2_flux.VLM-N", "gas_flux.so2_flux.VLM-S"]
+    magma = "extrusion_rate.extrusion_rate.VLM-CAM"
+    ratio = "gas_ratio.co2_so2_ratio.VLM-MG"
+    catalog = "seismic_catalog.events.local"
+
+    [analysis]
+    step = "1D"
+    min_coverage = 0.3
+    max_lag = "20D"
+    surrogates = 1000
+    rolling_window = "60D"
+    rolling_step = "7D"
+
+    [changepoints]
+    min_segment = "14D"
+    max_gap = "10D"
+    penalty = "bic"
+
+    [regimes]
+    gas_factor = 2.0              # gas active above this multiple of the baseline
+    magma_threshold = 0.1         # m³/s DRE
+    ratio_low = 0.3               # gas-poor below this fraction of the expected gas per magma
+    ratio_high = 3.0
+
+    [petrology]                   # Devine, Sigurdsson & Davis (1984) inputs, 1-sigma uncertainties
+    s_melt_inclusion_ppm = 1500
+    s_melt_inclusion_sd_ppm = 150
+    s_matrix_glass_ppm = 200
+    s_matrix_glass_sd_ppm = 50
+    dense_density_kg_m3 = 2600
+    dense_density_sd_kg_m3 = 100
+    crystal_fraction = 0.40
+    crystal_fraction_sd = 0.05
+
+    [review]
+    window_days = 7
+    baseline_days = 90
+
+    [[file]]                      # optional: files to ingest, with reader options (as in a mapping file)
+    path = "exports/so2_north.csv"
+    station = "VLM-N"
+"""
+
+from __future__ import annotations
+
+import dataclasses
+from dataclasses import dataclass, field
+from pathlib import Path
+
+from degas.errors import ConfigError
+from degas.io.mapping import load_toml
+
+
+@dataclass(frozen=True)
+class Petrology:
+    """Petrological inputs (ppm by mass, kg/m³, volume fraction) with 1-sigma uncertainties."""
+
+    s_melt_inclusion_ppm: float
+    s_matrix_glass_ppm: float
+    dense_density_kg_m3: float = 2600.0
+    crystal_fraction: float = 0.0
+    s_melt_inclusion_sd_ppm: float = 0.0
+    s_matrix_glass_sd_ppm: float = 0.0
+    dense_density_sd_kg_m3: float = 0.0
+    crystal_fraction_sd: float = 0.0
+
+
+@dataclass(frozen=True)
+class Project:
+    """Everything a run needs besides the archive. Defaults are stated, never hidden."""
+
+    volcano: str = "unnamed volcano"
+    observatory: str = ""
+    gas: tuple[str, ...] = ()
+    magma: str | None = None
+    ratio: str | None = None
+    catalog: str | None = None
+    step: str = "1D"
+    min_coverage: float = 0.3
+    max_lag: str = "20D"
+    surrogates: int = 1000
+    bootstrap: int = 300
+    rolling_window: str = "60D"
+    rolling_step: str = "7D"
+    rolling_max_lag: str = "15D"
+    rolling_surrogates: int = 200
+    variant: str = "raw"
+    min_segment: str = "14D"
+    max_gap: str = "10D"
+    penalty: str | float = "bic"
+    gas_factor: float = 2.0
+    magma_threshold: float | None = None
+    ratio_low: float = 0.3
+    ratio_high: float = 3.0
+    petrology: Petrology | None = None
+    window_days: int = 7
+    baseline_days: int = 90
+    lp_classes: tuple[str, ...] = ("LP", "hybrid")
+    b_window_events: int = 200
+    files: tuple[dict, ...] = field(default=())
+    seed: int = 0
+
+    def parameters(self) -> dict:
+        """Every parameter as plain values, for the methods section of the report."""
+        d = dataclasses.asdict(self)
+        d.pop("files")
+        return d
+
+
+_SECTIONS = {
+    "volcano": {"name": "volcano", "observatory": "observatory"},
+    "series": {"gas": "gas", "magma": "magma", "ratio": "ratio", "catalog": "catalog"},
+    "analysis": {"step": "step", "min_coverage": "min_coverage", "max_lag": "max_lag", "surrogates": "surrogates",
+                 "bootstrap": "bootstrap", "rolling_window": "rolling_window", "rolling_step": "rolling_step",
+                 "rolling_max_lag": "rolling_max_lag", "rolling_surrogates": "rolling_surrogates",
+                 "variant": "variant", "seed": "seed"},
+    "changepoints": {"min_segment": "min_segment", "max_gap": "max_gap", "penalty": "penalty"},
+    "regimes": {"gas_factor": "gas_factor", "magma_threshold": "magma_threshold", "ratio_low": "ratio_low",
+                "ratio_high": "ratio_high"},
+    "review": {"window_days": "window_days", "baseline_days": "baseline_days"},
+    "seismicity": {"lp_classes": "lp_classes", "b_window_events": "b_window_events"},
+}
+
+
+def load_project(path: str | Path) -> Project:
+    """Read and validate a project TOML; unknown sections or keys are an error naming them."""
+    raw = load_toml(path)
+    return project_from_dict(raw, str(path))
+
+
+def project_from_dict(raw: dict, where: str = "project") -> Project:
+    known = set(_SECTIONS) | {"petrology", "file"}
+    unknown = sorted(set(raw) - known)
+    if unknown:
+        raise ConfigError(f"{where}: unknown section(s) {unknown}; valid: {', '.join(sorted(known))}")
+    values: dict = {}
+    for section, keys in _SECTIONS.items():
+        table = raw.get(section, {})
+        if not isinstance(table, dict):
+            raise ConfigError(f"{where}: [{section}] must be a table")
+        bad = sorted(set(table) - set(keys))
+        if bad:
+            raise ConfigError(f"{where}: unknown key(s) {bad} in [{section}]; valid: {', '.join(sorted(keys))}")
+        for k, v in table.items():
+            values[keys[k]] = v
+    if "gas" in values:
+        g = values["gas"]
+        values["gas"] = (g,) if isinstance(g, str) else tuple(g)
+    if "lp_classes" in values:
+        values["lp_classes"] = tuple(values["lp_classes"])
+    if "petrology" in raw:
+        p = raw["petrology"]
+        names = {f.name for f in dataclasses.fields(Petrology)}
+        bad = sorted(set(p) - names)
+        if bad:
+            raise ConfigError(f"{where}: unknown key(s) {bad} in [petrology]; valid: {', '.join(sorted(names))}")
+        try:
+            values["petrology"] = Petrology(**{k: float(v) for k, v in p.items()})
+        except (TypeError, ValueError) as exc:
+            raise ConfigError(f"{where}: [petrology]: {exc}") from None
+    if "file" in raw:
+        values["files"] = tuple(dict(f) for f in raw["file"])
+    try:
+        proj = Project(**values)
+    except TypeError as exc:
+        raise ConfigError(f"{where}: {exc}") from None
+    if not 0 <= proj.min_coverage <= 1:
+        raise ConfigError(f"{where}: min_coverage must be between 0 and 1")
+    return proj

@@ -1,0 +1,163 @@
+"""Plain-language summary: short sentences, each with its number, its uncertainty and its source result.
+
+Sentences are built only from analysis results (never invented). Each is returned with a ``key`` so that
+tests (and the browser test) can check the numbers against the results they came from.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+import pandas as pd
+
+from degas.report.html import REGIME_LABELS
+
+DAY = pd.Timedelta("1D")
+
+
+@dataclass(frozen=True)
+class Sentence:
+    key: str
+    text: str
+
+
+def _d(ts) -> str:
+    return pd.Timestamp(ts).strftime("%Y-%m-%d")
+
+
+def _num(x: float, digits: int = 3) -> str:
+    """Three significant digits, but whole numbers with thousands separators from 1000 up."""
+    if x is None or not np.isfinite(x):
+        return "n/a"
+    if abs(x) >= 1000:
+        return f"{x:,.0f}"
+    return f"{x:.{digits}g}"
+
+
+QUANTITY_NAMES = {"so2_flux": "SO2 flux", "co2_flux": "CO2 flux", "h2s_flux": "H2S flux",
+                  "extrusion_rate": "extrusion rate", "co2_so2_ratio": "CO2/SO2 ratio"}
+
+
+def _name(quantity: str) -> str:
+    return QUANTITY_NAMES.get(quantity, quantity.replace("_", " "))
+
+
+def _p(p: float) -> str:
+    if not np.isfinite(p):
+        return "n/a"
+    return "< 0.001" if p < 0.001 else f"= {p:.3f}"
+
+
+def lag_sentence(key: str, res, where: str) -> Sentence:
+    ci = "" if res.lag_ci is None else (f" ({res.ci_level:.0%} interval {res.lag_ci[0] / DAY:+.0f} to "
+                                        f"{res.lag_ci[1] / DAY:+.0f} d)")
+    where = where.replace(" to ", " until ") if where.startswith("Coupled") else where
+    lead = "gas leads magma output" if res.best_lag > pd.Timedelta(0) else (
+        "gas lags magma output" if res.best_lag < pd.Timedelta(0) else "no lag")
+    return Sentence(key, f"{where}: best lag {res.best_lag / DAY:+.0f} d{ci}, {lead}; peak r = {res.peak_r:.2f}, "
+                         f"surrogate p {_p(res.p_value)} ({res.n_surrogates} {res.surrogate_method} surrogates).")
+
+
+def regime_sentences(bundle) -> list[Sentence]:
+    """One sentence per decoupled interval (gas_only, magma_only) of at least a week, with its evidence."""
+    out = []
+    if bundle.regimes is None:
+        return out
+    iv = bundle.regimes.intervals
+    lp = bundle.changepoints.get("lp_hybrid_rate")
+    for label, key in (("gas_only", "decoupled"), ("magma_only", "sealing")):
+        for r in iv[iv["label"] == label].itertuples():
+            if r.duration_days < 7:
+                continue
+            if label == "gas_only":
+                what = (f"Gas without magma output (decoupled degassing) from {_d(r.start)} until {_d(r.end)} "
+                        f"({r.duration_days:.0f} days): SO2 {_num(r.gas_t_d)} t/d, {r.gas_to_baseline:.1f}× the "
+                        f"baseline, while magma output was {r.magma_level:.2g}.")
+            else:
+                what = (f"Magma output without matching gas (gas-poor output, possible sealing) from {_d(r.start)} "
+                        f"until {_d(r.end)} ({r.duration_days:.0f} days): extrusion {r.magma_level:.2g} m³/s DRE "
+                        f"with SO2 {_num(r.gas_t_d)} t/d, {_num(r.ratio_vs_expected, 2)}× the gas expected per "
+                        "magma.")
+                if lp is not None:
+                    near = lp.changes[(lp.changes["time"] >= r.start - pd.Timedelta("21D"))
+                                      & (lp.changes["time"] <= r.end)]
+                    if len(near):
+                        first, last = near.iloc[0], near.iloc[-1]
+                        per = "day" if pd.Timedelta(bundle.project.step) == DAY else f"{bundle.project.step} bin"
+                        what += (f" LP + hybrid events rose from {first['level_before']:.1f} to "
+                                 f"{last['level_after']:.1f} per {per}, in {len(near)} step(s) from "
+                                 f"{_d(first['time'])} (95% range {_d(first['ci_start'])} to "
+                                 f"{_d(first['ci_end'])}).")
+            out.append(Sentence(f"{key}:{_d(r.start)}", what))
+    return out
+
+
+def summarise(bundle) -> list[Sentence]:
+    """The summary sentences for a run, most important first."""
+    out: list[Sentence] = []
+    per = bundle.periods
+    if per is not None and bundle.regimes is not None:
+        now, prev = bundle.review_regime.get("window"), bundle.review_regime.get("previous")
+        if now:
+            change = "unchanged from" if now == prev else f"after {REGIME_LABELS.get(prev, prev or 'no label')} in"
+            out.append(Sentence("regime:window", f"Week {_d(per.window_start)} to {_d(per.window_end - DAY)}: "
+                                                 f"{REGIME_LABELS.get(now, now)} ({change} the week before)."))
+    out += regime_sentences(bundle)
+    for r in bundle.review:
+        if r.kind not in ("gas_flux", "extrusion_rate") or not np.isfinite(r.level_window):
+            continue
+        name = f"{_name(r.quantity)} at {r.station}" if r.station else _name(r.quantity)
+        tr = ""
+        if r.trend is not None:
+            tr = (f"; trend {r.trend.slope_per_day:+.3g} {r.display_unit}/day (95% {r.trend.slope_low:+.3g} to "
+                  f"{r.trend.slope_high:+.3g}), Mann-Kendall p = {r.trend.mann_kendall.p_value:.2f}")
+        out.append(Sentence(f"level:{r.series_id}",
+                            f"{name}: median {_num(r.level_window)} {r.display_unit} in the week, "
+                            f"{_num(r.ratio, 2)}× the {r.days_baseline}-day baseline of {_num(r.level_baseline)} "
+                            f"(95% {_num(r.ratio_low, 2)} to {_num(r.ratio_high, 2)}), robust z = "
+                            f"{_num(r.robust_z, 2)}{tr}; coverage {r.coverage_window:.0%}."))
+    for rc in bundle.review_events:
+        if rc.event_class in ("LP", "hybrid", "VT", "explosion") and (rc.n_window or rc.n_baseline):
+            out.append(Sentence(f"rate:{rc.event_class}",
+                                f"{rc.event_class} events: {rc.rate_window_per_day:.1f} per day in the week vs "
+                                f"{rc.rate_baseline_per_day:.1f} in the baseline (×{_num(rc.ratio, 2)}, 95% "
+                                f"{_num(rc.ratio_low, 2)} to {_num(rc.ratio_high, 2)}, p {_p(rc.p_value)})."))
+    bw, bb = bundle.review_regime.get("b_window"), bundle.review_regime.get("b_baseline")
+    if hasattr(bw, "b") and hasattr(bb, "b"):
+        out.append(Sentence("b:window", f"b-value {bw.b:.2f} ± {bw.sigma:.2f} ({bw.n} events above Mc {bw.mc:.1f}) in "
+                                        f"the week vs {bb.b:.2f} ± {bb.sigma:.2f} in the baseline."))
+    if bundle.xcorr is not None:
+        out.append(lag_sentence("lag:record", bundle.xcorr, "Whole record, SO2 against magma output"))
+    for s, e, _label, res in bundle.xcorr_intervals:
+        out.append(lag_sentence(f"lag:{_d(s)}", res, f"Coupled interval {_d(s)} to {_d(e)}"))
+    if bundle.budget is not None:
+        o = bundle.budget.overall
+        if np.isfinite(o.get("excess_factor", np.nan)):
+            out.append(Sentence("budget:overall",
+                                f"Gas budget {_d(o['start'])} until {_d(o['end'])}: "
+                                f"{_num(o['so2_mass_kg'] / 1e6)} kt SO2 for "
+                                f"{o['dre_volume_m3'] / 1e6:.3g} Mm³ DRE ({o['ratio_kg_per_m3']:.3g} ± "
+                                f"{o['ratio_sd_kg_per_m3']:.2g} kg SO2 per m³); observed/petrological SO2 = "
+                                f"{o['excess_factor']:.2f} (95% {o['excess_p2_5']:.2f} to {o['excess_p97_5']:.2f})."))
+    for name, cp in bundle.changepoints.items():
+        if per is None:
+            continue
+        inside = [t for t in cp.change_times if per.window_start <= t < per.window_end]
+        if inside:
+            out.append(Sentence(f"change:{name}", f"Change point in {name.replace('_', ' ')} inside the week: "
+                                                  + ", ".join(_d(t) for t in inside) + "."))
+    out += unknowns(bundle)
+    return out
+
+
+def unknowns(bundle) -> list[Sentence]:
+    """What the run does not know: low coverage, missing data, steps that could not run."""
+    out = []
+    for r in bundle.review:
+        for n in r.notes:
+            if "no data" in n or "only" in n:
+                out.append(Sentence(f"gap:{r.series_id}", f"{r.series_id}: {n}."))
+    for s in bundle.skipped:
+        out.append(Sentence("skipped", s + "."))
+    return out
