@@ -1,0 +1,35 @@
+"""One demo run shared by the report tests (building it takes a few seconds)."""
+
+from __future__ import annotations
+
+import json
+
+import pytest
+
+from degas.cli.archive_cmds import build_demo_archive
+from tests.conftest import REPO
+
+
+@pytest.fixture(scope="session")
+def demo_truth() -> dict:
+    return json.loads((REPO / "demo_series" / "truth.json").read_text())
+
+
+@pytest.fixture(scope="session")
+def demo_bundle(tmp_path_factory):
+    from degas.pipeline import run_all
+    from degas.project import load_project
+
+    root = tmp_path_factory.mktemp("demo")
+    archive = build_demo_archive(REPO / "demo_series", root / "archive")
+    project = load_project(REPO / "demo_series" / "velmarra.toml")
+    return run_all(archive, project, mode="retrospective")
+
+
+@pytest.fixture(scope="session")
+def demo_report(demo_bundle, tmp_path_factory):
+    from degas.report import write_report
+
+    out = tmp_path_factory.mktemp("report")
+    path = write_report(demo_bundle, out, appendix=out / "appendix")
+    return path, out / "appendix"

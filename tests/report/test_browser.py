@@ -1,0 +1,92 @@
+"""The demo report in a real browser: headless Chromium, opened from a file URL with networking off.
+
+Checks: no console errors, every plotly figure drew its SVG, the cautions are visible, no resource was
+fetched from anywhere but the file itself, and the summary shown equals the analysis results. Saves a
+screenshot. Skipped (with the reason) when no Chromium is installed; CI installs Debian's chromium.
+"""
+
+from __future__ import annotations
+
+import json
+import shutil
+import subprocess
+from html.parser import HTMLParser
+
+import pytest
+
+from degas.report.summary import summarise
+
+CHROMIUM = shutil.which("chromium") or shutil.which("chromium-browser") or shutil.which("google-chrome")
+pytestmark = [pytest.mark.browser,
+              pytest.mark.skipif(CHROMIUM is None, reason="no Chromium installed (apt-get install chromium)")]
+
+PROBE = """<script>
+window.__errs = [];
+window.addEventListener('error', e => window.__errs.push('error: ' + e.message));
+(function () { const ce = console.error; console.error = function (...a) { window.__errs.push(a.join(' '));
+  ce.apply(console, a); }; })();
+window.addEventListener('load', () => setTimeout(() => {
+  const out = {};
+  out.errors = window.__errs;
+  out.figures = [...document.querySelectorAll('.plotly-graph-div')].map(
+      g => [g.id, g.querySelectorAll('svg.main-svg').length]);
+  const c = document.getElementById('cautions'); const r = c.getBoundingClientRect(); const st = getComputedStyle(c);
+  out.cautions = {height: r.height, top: r.top, visibility: st.visibility, display: st.display,
+                  text: c.innerText};
+  out.resources = performance.getEntriesByType('resource').map(e => e.name);
+  out.summary = [...document.querySelectorAll('#summary li')].map(li => [li.dataset.key, li.innerText]);
+  const p = document.createElement('pre'); p.id = '__probe'; p.textContent = JSON.stringify(out);
+  document.body.appendChild(p);
+}, 2500));
+</script>"""
+
+FLAGS = ["--headless", "--no-sandbox", "--disable-gpu", "--disable-quic", "--no-first-run",
+         "--disable-background-networking", "--disable-component-update", "--disable-sync",
+         "--host-resolver-rules=MAP * ~NOTFOUND", "--proxy-server=http://127.0.0.1:9",
+         "--proxy-bypass-list=<-loopback>", "--virtual-time-budget=15000", "--window-size=1280,4000"]
+
+
+class _Probe(HTMLParser):
+    def __init__(self):
+        super().__init__()
+        self.inside = False
+        self.text = ""
+
+    def handle_starttag(self, tag, attrs):
+        self.inside = self.inside or (tag == "pre" and ("id", "__probe") in attrs)
+
+    def handle_endtag(self, tag):
+        if tag == "pre":
+            self.inside = False
+
+    def handle_data(self, data):
+        if self.inside:
+            self.text += data
+
+
+def test_demo_report_renders_offline_in_chromium(demo_report, demo_bundle, tmp_path):
+    path, _ = demo_report
+    html = path.read_text(encoding="utf-8")
+    probed = tmp_path / "probed.html"
+    probed.write_text(html.replace("<head>", "<head>" + PROBE, 1), encoding="utf-8")
+    user = tmp_path / "profile"
+    dom = subprocess.run([CHROMIUM, *FLAGS, f"--user-data-dir={user}", "--dump-dom", probed.as_uri()],
+                         capture_output=True, text=True, timeout=180)
+    parser = _Probe()
+    parser.feed(dom.stdout)
+    assert parser.text, f"the probe did not run; chromium said: {dom.stderr[-2000:]}"
+    out = json.loads(parser.text)
+    assert out["errors"] == []
+    assert out["figures"], "no plotly figure on the page"
+    for fid, n_svg in out["figures"]:
+        assert n_svg >= 1, f"figure {fid} drew no SVG"
+    c = out["cautions"]
+    assert c["display"] != "none" and c["visibility"] == "visible" and c["height"] > 50 and c["top"] < 400
+    assert "not a forecast" in c["text"] and "civil-protection" in c["text"]
+    assert all(r.startswith("file:") for r in out["resources"]), out["resources"]
+    expected = [(s.key, s.text) for s in summarise(demo_bundle)]
+    assert [tuple(x) for x in out["summary"]] == expected
+    shot = tmp_path / "demo_report.png"
+    subprocess.run([CHROMIUM, *FLAGS, f"--user-data-dir={user}", f"--screenshot={shot}", path.as_uri()],
+                   capture_output=True, timeout=180)
+    assert shot.exists() and shot.stat().st_size > 10_000
