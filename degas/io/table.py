@@ -64,7 +64,9 @@ def is_delimited(head: bytes, path: Path) -> bool:
     try:
         text = _decode(head)
     except UnicodeDecodeError:
-        return False
+        text = head.decode("latin-1")  # the reader falls back to Latin-1 the same way
+        if sum(ch < " " and ch not in "\r\n\t" for ch in text[:4096]) > 8:
+            return False
     if text.lstrip().startswith("<"):
         return False
     lines = [ln for ln in text.splitlines() if ln.strip() and not ln.lstrip().startswith("#")]
@@ -194,7 +196,12 @@ def load_delimited(path: Path) -> RawTable:
             bad.clear()
             table = _read(False)
     except pa.ArrowInvalid as exc:
-        raise InputError(path.name, f"cannot read as a delimited table: {str(exc).splitlines()[0]}") from None
+        if "UTF8" not in str(exc) or encoding == "latin-1":
+            raise InputError(path.name, f"cannot read as a delimited table: {str(exc).splitlines()[0]}") from None
+        encoding = "latin-1"  # invalid UTF-8 beyond the sniffed head: every byte is a Latin-1 character
+        meta["encoding"] = "latin-1 (not valid UTF-8)"
+        bad.clear()
+        table = _read(False)
     first_data_line = n_pre + 2
     n = table.num_rows
     if bad:
