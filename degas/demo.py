@@ -1136,7 +1136,7 @@ def write_demo(out_dir: Path, seed: int = DEFAULT_SEED) -> list[Path]:
 
 def write_large(out_dir: Path, *, years: int = 10, step: str = "10min", n_events: int = 1_000_000,
                 seed: int = 7) -> list[Path]:
-    """Benchmark-size files (not committed): two SO2-flux stations and a large event catalogue.
+    """Benchmark-size files (not committed): two SO2-flux stations, a daily extrusion rate and a large catalogue.
 
     Vectorised; 10 years at 10 minutes and a million events take well under a minute.
 
@@ -1151,7 +1151,8 @@ def write_large(out_dir: Path, *, years: int = 10, step: str = "10min", n_events
     Returns
     -------
     list of Path
-        ``large_so2_flux_VLM-N.csv``, ``large_so2_flux_VLM-S.csv``, ``large_seismic_catalog.csv``.
+        ``large_so2_flux_VLM-N.csv``, ``large_so2_flux_VLM-S.csv``, ``large_extrusion_rate_daily.csv``,
+        ``large_seismic_catalog.csv``.
     """
     out = Path(out_dir)
     out.mkdir(parents=True, exist_ok=True)
@@ -1174,6 +1175,16 @@ def write_large(out_dir: Path, *, years: int = 10, step: str = "10min", n_events
         p = out / f"large_so2_flux_{station}.csv"
         df.to_csv(p, index=False, lineterminator="\n")
         paths.append(p)
+    # daily extrusion rate (m³/s DRE) that the gas follows 4 days later (positive lag: gas leads)
+    r = _rng(seed, 205)
+    days = pd.date_range(t0, t0 + pd.Timedelta(days=365 * years), freq="1D", inclusive="left")
+    dd = np.arange(len(days), dtype=float)
+    q_level = steps[((dd + 4) // 200).astype(int)] / 400.0 * (1 + 0.2 * np.sin(2 * np.pi * (dd + 4) / 37.0))
+    q = np.round(np.clip(q_level * np.exp(0.1 * r.standard_normal(len(days))), 0, None), 3)
+    p = out / "large_extrusion_rate_daily.csv"
+    pd.DataFrame({"date": days.strftime("%Y-%m-%d"), "extrusion rate (m3/s DRE)": q}).to_csv(
+        p, index=False, lineterminator="\n")
+    paths.append(p)
     r = _rng(seed, 210)
     span_ns = times.asi8[-1] - times.asi8[0]
     t_ev = np.sort(times.asi8[0] + (r.random(n_events) * span_ns).astype("int64"))

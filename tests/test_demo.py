@@ -579,11 +579,13 @@ def test_every_demo_file_reads_with_its_ingest_options(truth):
 def test_write_large_small_variant(tmp_path):
     paths = write_large(tmp_path, years=1, step="1h", n_events=5000, seed=3)
     assert [p.name for p in paths] == ["large_so2_flux_VLM-N.csv", "large_so2_flux_VLM-S.csv",
-                                       "large_seismic_catalog.csv"]
+                                       "large_extrusion_rate_daily.csv", "large_seismic_catalog.csv"]
     flux = pd.read_csv(paths[0])
     assert list(flux.columns) == ["time", "so2_flux_t_d", "uncertainty_t_d", "flag"]
     assert len(flux) == 365 * 24 and flux["time"].str.endswith("Z").all()
-    cat = pd.read_csv(paths[2])
+    q = pd.read_csv(paths[2])
+    assert len(q) == 365 and (q["extrusion rate (m3/s DRE)"] >= 0).all()
+    cat = pd.read_csv(paths[3])
     assert len(cat) == 5000
     again = write_large(tmp_path / "b", years=1, step="1h", n_events=5000, seed=3)
     assert all(a.read_bytes() == b.read_bytes() for a, b in zip(paths, again, strict=True))
