@@ -16,14 +16,18 @@ def demo_truth() -> dict:
 
 
 @pytest.fixture(scope="session")
-def demo_bundle(tmp_path_factory):
+def demo_archive(tmp_path_factory):
+    root = tmp_path_factory.mktemp("demo")
+    return build_demo_archive(REPO / "demo_series", root / "archive")
+
+
+@pytest.fixture(scope="session")
+def demo_bundle(demo_archive):
     from degas.pipeline import run_all
     from degas.project import load_project
 
-    root = tmp_path_factory.mktemp("demo")
-    archive = build_demo_archive(REPO / "demo_series", root / "archive")
     project = load_project(REPO / "demo_series" / "velmarra.toml")
-    return run_all(archive, project, mode="retrospective")
+    return run_all(demo_archive, project, mode="retrospective")
 
 
 @pytest.fixture(scope="session")

@@ -1,0 +1,34 @@
+"""Project files: validation with clear messages, defaults stated."""
+
+from __future__ import annotations
+
+import pytest
+
+from degas.errors import ConfigError
+from degas.project import Project, load_project, project_from_dict
+from tests.conftest import REPO
+
+
+def test_demo_project_file_loads():
+    p = load_project(REPO / "demo_series" / "velmarra.toml")
+    assert p.volcano == "Velmarra" and len(p.gas) == 2 and p.petrology.s_melt_inclusion_ppm == 1500
+    assert p.parameters()["window_days"] == 7
+
+
+@pytest.mark.parametrize(
+    "raw,fragment",
+    [({"colours": {}}, "unknown section(s) ['colours']"),
+     ({"analysis": {"stepp": "1D"}}, "unknown key(s) ['stepp'] in [analysis]"),
+     ({"petrology": {"s_melt_inclusion_ppm": "lots", "s_matrix_glass_ppm": 1}}, "[petrology]"),
+     ({"analysis": {"min_coverage": 2}}, "min_coverage must be between 0 and 1")],
+)
+def test_bad_project_files(raw, fragment):
+    with pytest.raises(ConfigError) as e:
+        project_from_dict(raw, "p.toml")
+    assert fragment in str(e.value) and str(e.value).startswith("p.toml")
+
+
+def test_defaults_when_nothing_is_given():
+    p = project_from_dict({})
+    assert p == Project()
+    assert p.petrology is None and p.window_days == 7 and p.baseline_days == 90
