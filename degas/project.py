@@ -23,7 +23,7 @@ With it the weekly run is one command (``degas report ARCHIVE --project velmarra
     [changepoints]
     min_segment = "14D"
     max_gap = "10D"
-    penalty = "bic"
+    penalty = "bic3"
 
     [regimes]
     gas_factor = 2.0              # gas active above this multiple of the baseline
@@ -96,7 +96,7 @@ class Project:
     variant: str = "raw"
     min_segment: str = "14D"
     max_gap: str = "10D"
-    penalty: str | float = "bic"
+    penalty: str | float = "bic3"
     gas_factor: float = 2.0
     magma_threshold: float | None = None
     ratio_low: float = 0.3
