@@ -14,7 +14,7 @@ The story (UTC; intervals are ``[start, end)``):
    open-system degassing of un-erupted magma); CO2/SO2 rises from 1.5 to 4 (deeper degassing).
 4. 2024-06-01 - 2024-12-16 eruptive phase 2: coupled again, ~2 m³/s, ~1000 t/d, gas leads by 3 days.
 5. 2024-12-16 - 2025-03-10 sealing: extrusion goes on (1.5 -> 1.0 m³/s) but SO2 falls to
-   ~200 t/d while LP + hybrid rates accelerate from ~2/day to ~30/day and RSAM rises.
+   ~200 t/d while LP + hybrid rates step up to ~6/day and accelerate to ~30/day; RSAM rises.
 6. 2025-03-10 explosive event (one day): SO2 spike of several thousand t/d for a few days.
 7. 2025-03-11 - open: renewed coupled dome growth ~4 m³/s, ~1500 t/d, gas leads by 5 days.
 
@@ -353,8 +353,8 @@ def generate_scenario(seed: int = DEFAULT_SEED, *, start: str = DEFAULT_START, e
             q[idx] = trend * np.sqrt(f_pad[pad + idx])  # damped pulses
             so2_t_d[idx] = (ph.so2_end_t_d + (ph.so2_t_d - ph.so2_end_t_d) * np.exp(-tau / 12.0)) * (
                 1 + 0.08 * gas_noise[idx])
-            # LP + hybrid rate accelerates exponentially from 2/day to 30/day
-            lp_hb[idx] = 2.0 * 15.0 ** frac
+            # LP + hybrid swarm: a step to 6/day at the onset, then exponential acceleration to 30/day
+            lp_hb[idx] = 6.0 * 5.0 ** frac
         elif ph.name == "pause":
             decay = math.log(ph.so2_t_d / ph.so2_end_t_d) / length
             so2_t_d[idx] = ph.so2_t_d * np.exp(-decay * tau) * (1 + 0.08 * gas_noise[idx])
@@ -595,7 +595,8 @@ def _truth(seed: int, days: pd.DatetimeIndex, phases: tuple[Phase, ...], phase_i
                              "~200 t/d rather than a step; 2025-03-10 is the explosive spike (5000 t/d, e-folding "
                              "1.2 days) and 2025-03-11 the step to the renewed coupled level"),
                 "extrusion_rate": "2024-12-16 is a small step (~2 -> 1.5 m3/s) followed by a linear decline to 1.0",
-                "lp_hybrid_rate": "exponential acceleration from 2024-12-16; the swarm stops with the explosion",
+                "lp_hybrid_rate": ("step from 2/day to 6/day on 2024-12-16, then exponential acceleration; the swarm "
+                                   "stops with the explosion"),
                 "co2_so2_ratio": ("level steps listed under co2_so2_ratio; linear trends start on the dates under "
                                   "co2_so2_ratio_trend_changes"),
             },
@@ -611,8 +612,9 @@ def _truth(seed: int, days: pd.DatetimeIndex, phases: tuple[Phase, ...], phase_i
                                         "form": "P(detect) = Phi((M - m50) / sigma)"},
             "detection_rolloff_regional": {"m50": _REGIONAL_MU, "sigma": _REGIONAL_SIGMA},
             "regional_ml_minus_local_md": ML_MINUS_MD,
-            "lp_hybrid_rate_per_day": {"background": 2.0, "sealing_start": 2.0, "sealing_end": 30.0,
-                                       "form": "2 * 15 ** (t / T), exponential acceleration over the sealing"},
+            "lp_hybrid_rate_per_day": {"background": 2.0, "sealing_start": 6.0, "sealing_end": 30.0,
+                                       "form": "6 * 5 ** (t / T): a step at the onset, then exponential "
+                                               "acceleration over the sealing"},
             "event_counts_true_class": {str(k): int(v) for k, v in
                                         events["event_class"].value_counts().sort_index().items()},
             "located_vt_events": int((events["located"] & vt).sum()),
@@ -1234,7 +1236,7 @@ python -m degas.demo /tmp/large --large     # benchmark-size files (10 years at 
 - 2024-06-01 - 2024-12-16, **eruptive phase 2** (`coupled`): ~2 m³/s, SO2 ~1000 t/d; gas leads by
   3 days.
 - 2024-12-16 - 2025-03-10, **sealing** (`magma_only`): extrusion goes on (1.5 -> 1.0 m³/s) but SO2
-  falls to ~200 t/d; the LP + hybrid rate accelerates from ~2/day to ~30/day; RSAM rises.
+  falls to ~200 t/d; the LP + hybrid rate steps up to ~6/day and accelerates to ~30/day; RSAM rises.
 - 2025-03-10, **explosive event** at 08:42 UTC (`gas_only`): SO2 spike of ~5000 t/d decaying over a
   few days.
 - 2025-03-11 - (open), **renewed dome growth** (`coupled`): ~4 m³/s, SO2 ~1500 t/d; gas leads by
