@@ -28,3 +28,17 @@ def write(tmp_path: Path):
         return p
 
     return _write
+
+
+# Property-based tests explore new random cases on a developer's machine; in CI they replay a fixed set
+# (derandomised), so that a run is repeatable and a newly found corner case is fixed before it lands.
+try:
+    import os
+
+    from hypothesis import settings
+
+    settings.register_profile("ci", derandomize=True, print_blob=True)
+    if os.environ.get("CI") == "true":
+        settings.load_profile("ci")
+except ImportError:  # hypothesis is a test extra
+    pass

@@ -167,7 +167,10 @@ def load_delimited(path: Path) -> RawTable:
         for _ in range(n_pre):
             fh.readline()
         header_bytes = fh.readline()
-    header = next(csv.reader([header_bytes.decode(encoding, errors="replace").rstrip("\r\n")], delimiter=delim))
+    try:
+        header = next(csv.reader([header_bytes.decode(encoding, errors="replace").rstrip("\r\n")], delimiter=delim))
+    except csv.Error as exc:
+        raise InputError(path.name, f"cannot read the header line: {exc}", line=n_pre + 1) from None
     header = [h.strip() for h in header]
     while header and header[-1] == "":
         header.pop()
