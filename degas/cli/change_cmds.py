@@ -6,12 +6,12 @@ import json
 import math
 from pathlib import Path
 
-import numpy as np
 import pandas as pd
 import typer
 from rich.table import Table
 
 from degas.cli._app import app, console
+from degas.cli._out import jsonable
 from degas.errors import DegasError
 
 
@@ -41,22 +41,6 @@ def _num(x, fmt: str = ".3g") -> str:
     if 100 <= abs(x) < 1e7:
         return f"{x:.0f}"
     return format(x, fmt)
-
-
-def _jsonable(x):
-    if isinstance(x, dict):
-        return {str(k): _jsonable(v) for k, v in x.items()}
-    if isinstance(x, list | tuple):
-        return [_jsonable(v) for v in x]
-    if isinstance(x, pd.Timestamp):
-        return x.isoformat()
-    if isinstance(x, pd.Timedelta):
-        return x.isoformat()
-    if isinstance(x, np.integer):
-        return int(x)
-    if isinstance(x, np.floating | float):
-        return float(x) if math.isfinite(x) else None
-    return x
 
 
 @app.command("shifts")
@@ -135,5 +119,5 @@ def shifts(
             "changes": res.to_frame().to_dict(orient="records"),
             "segments": res.segments_frame().to_dict(orient="records"),
         }
-        json_out.write_text(json.dumps(_jsonable(doc), indent=2, ensure_ascii=False))
+        json_out.write_text(json.dumps(jsonable(doc), indent=2, ensure_ascii=False))
         console.print(f"wrote {json_out}", markup=False)

@@ -6,12 +6,12 @@ import json
 import math
 from pathlib import Path
 
-import numpy as np
 import pandas as pd
 import typer
 from rich.table import Table
 
 from degas.cli._app import app, console
+from degas.cli._out import jsonable
 from degas.errors import DegasError, NotEnoughDataError
 from degas.model import EVENT_CLASSES, EventCatalog
 
@@ -58,20 +58,6 @@ def _parse_classes(text: str | None) -> tuple[str, ...] | None:
 
 def _num(x: float, fmt: str = ".3g") -> str:
     return "-" if x is None or (isinstance(x, float) and not math.isfinite(x)) else format(x, fmt)
-
-
-def _jsonable(x):
-    if isinstance(x, dict):
-        return {str(k): _jsonable(v) for k, v in x.items()}
-    if isinstance(x, list | tuple):
-        return [_jsonable(v) for v in x]
-    if isinstance(x, pd.Timestamp):
-        return x.isoformat()
-    if isinstance(x, np.integer):
-        return int(x)
-    if isinstance(x, np.floating | float):
-        return float(x) if math.isfinite(x) else None
-    return x
 
 
 @app.command("quakes")
@@ -168,5 +154,5 @@ def quakes(
             "b_series": None if bseries is None else bseries.frame.to_dict(orient="records"),
             "notes": notes,
         }
-        json_out.write_text(json.dumps(_jsonable(summary), indent=2))
+        json_out.write_text(json.dumps(jsonable(summary), indent=2))
         console.print(f"wrote {json_out}", markup=False)

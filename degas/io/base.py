@@ -9,12 +9,13 @@ returns records in the canonical model (UTC, SI) plus every rejected row.
 from __future__ import annotations
 
 from dataclasses import dataclass, field
+from datetime import UTC
 from functools import lru_cache
 from pathlib import Path
 
 import pandas as pd
 
-from degas.model import Record
+from degas.model import Provenance, Record
 
 REJECT_COLUMNS = ("file", "line", "column", "reason", "raw")
 
@@ -109,3 +110,21 @@ def _sha256_cached(path: str, size: int, mtime_ns: int) -> str:
         for block in iter(lambda: fh.read(1 << 20), b""):
             h.update(block)
     return h.hexdigest()
+
+
+def make_provenance(path: Path, reader: str, accepted: int, rejected: int, original_unit: str | None,
+                    assumptions, options: ReadOptions) -> Provenance:
+    """Provenance of one read: file name and SHA-256, reader, row counts, assumptions (deduplicated), options."""
+    from datetime import datetime
+
+    return Provenance(
+        source_name=path.name,
+        sha256=file_sha256(path),
+        reader=reader,
+        rows_accepted=accepted,
+        rows_rejected=rejected,
+        original_unit=original_unit,
+        assumptions=tuple(dict.fromkeys(assumptions)),
+        ingested_at=datetime.now(UTC).isoformat(timespec="seconds"),
+        options=options.as_pairs(),
+    )

@@ -26,9 +26,9 @@ import pyarrow as pa
 import pyarrow.csv as pacsv
 
 from degas.errors import InputError
-from degas.io.base import ReadOptions, ReadResult, file_sha256, rejects_frame
+from degas.io.base import ReadOptions, ReadResult, make_provenance, rejects_frame
 from degas.io.event_classes import CatalogColumns, build_catalog, finish_notes
-from degas.model import EventCatalog, Provenance, SeriesMeta
+from degas.model import EventCatalog, SeriesMeta
 
 READER = "seismic_catalog/fdsn_text"
 _REQUIRED = ("time", "latitude", "longitude")
@@ -290,15 +290,6 @@ def read_fdsn_text(path: Path, options: ReadOptions) -> ReadResult:
         uniq = cats[cats.fillna("") != ""].unique()
         station = str(uniq[0]) if len(uniq) == 1 else None
     meta = SeriesMeta(kind="seismic_catalog", quantity="events", station=station)
-    prov = Provenance(
-        source_name=name,
-        sha256=file_sha256(path),
-        reader=READER,
-        rows_accepted=len(built.data),
-        rows_rejected=len(rejects),
-        original_unit="km",
-        assumptions=tuple(assumptions),
-        options=options.as_pairs(),
-    )
+    prov = make_provenance(path, READER, len(built.data), len(rejects), "km", assumptions, options)
     catalog = EventCatalog(built.data, meta, (prov,))
     return ReadResult(records=[catalog], rejects=rejects_frame(rejects), notes=notes)

@@ -43,7 +43,7 @@ from defusedxml import DefusedXmlException
 from defusedxml.ElementTree import DefusedXMLParser, ParseError
 
 from degas.errors import InputError
-from degas.io.base import ReadOptions, ReadResult, file_sha256, rejects_frame
+from degas.io.base import ReadOptions, ReadResult, make_provenance, rejects_frame
 from degas.io.event_classes import (
     CatalogColumns,
     build_catalog,
@@ -51,7 +51,7 @@ from degas.io.event_classes import (
     lookup_class,
     resolve_class_map,
 )
-from degas.model import EventCatalog, Provenance, SeriesMeta
+from degas.model import EventCatalog, SeriesMeta
 
 READER = "seismic_catalog/quakeml"
 QUAKEML_NS = "http://quakeml.org/xmlns/quakeml/1.2"
@@ -429,15 +429,6 @@ def read_quakeml(path: Path, options: ReadOptions) -> ReadResult:
     notes = finish_notes(name, list(built.notes), assumptions, rejects)
     station = options.station or handler.catalog_agency or (agencies.pop() if len(agencies) == 1 else None)
     meta = SeriesMeta(kind="seismic_catalog", quantity="events", station=station)
-    prov = Provenance(
-        source_name=name,
-        sha256=file_sha256(path),
-        reader=READER,
-        rows_accepted=len(built.data),
-        rows_rejected=len(rejects),
-        original_unit="m",
-        assumptions=tuple(assumptions),
-        options=options.as_pairs(),
-    )
+    prov = make_provenance(path, READER, len(built.data), len(rejects), "m", assumptions, options)
     catalog = EventCatalog(built.data, meta, (prov,))
     return ReadResult(records=[catalog], rejects=rejects_frame(rejects), notes=notes)

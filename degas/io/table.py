@@ -23,7 +23,7 @@ import numpy as np
 import pandas as pd
 
 from degas.errors import DegasError, InputError, UnitError
-from degas.io.base import ReadOptions, ReadResult, file_sha256, rejects_frame
+from degas.io.base import ReadOptions, ReadResult, make_provenance, rejects_frame
 from degas.io.columns import (
     MAGNITUDE_TYPE_HEADERS,
     Header,
@@ -42,7 +42,6 @@ from degas.model import (
     KINDS,
     Chronology,
     EventCatalog,
-    Provenance,
     SeriesMeta,
     TimeSeries,
 )
@@ -496,21 +495,6 @@ def _times(raw: RawTable, col: str, options: ReadOptions, rej: _Rejects, source:
     return t, parsed.assumptions
 
 
-def _sha_and_prov(path: Path, reader: str, accepted: int, rejected: int, original_unit, assumptions,
-                  options: ReadOptions) -> Provenance:
-    return Provenance(
-        source_name=path.name,
-        sha256=file_sha256(path),
-        reader=reader,
-        rows_accepted=accepted,
-        rows_rejected=rejected,
-        original_unit=original_unit,
-        assumptions=tuple(dict.fromkeys(assumptions)),
-        ingested_at=pd.Timestamp.now(tz="UTC").isoformat(timespec="seconds"),
-        options=options.as_pairs(),
-    )
-
-
 def _dedupe_and_sort(df: pd.DataFrame, lines: np.ndarray, key: list[str], compare: list[str], source: str,
                      rejects: list, notes: list[str], what: str,
                      label: str | None = None, sort_by: str | None = None) -> tuple[pd.DataFrame, np.ndarray]:
@@ -697,7 +681,7 @@ def _build_series(path: Path, raw: RawTable, plan: Plan, options: ReadOptions, r
     prov_assumptions = assumptions
     out = []
     for r in records:
-        prov = _sha_and_prov(path, reader, len(r.data), n_rej, first_unit, prov_assumptions, options)
+        prov = make_provenance(path, reader, len(r.data), n_rej, first_unit, prov_assumptions, options)
         out.append(TimeSeries(r.data, r.meta, (prov,)))
     notes.extend(f"{source}: {a}" for a in dict.fromkeys(prov_assumptions))
     return ReadResult(out, rejects_frame(all_rows), notes)
@@ -810,7 +794,7 @@ def _build_chronology(path: Path, raw: RawTable, plan: Plan, options: ReadOption
     if ov.any():
         notes.append(f"{source}: {int(ov.sum())} phase(s) overlap the previous one (kept as given)")
     meta = SeriesMeta(kind="chronology", quantity="eruptive_state", station=options.station or raw.meta.get("station"))
-    prov = _sha_and_prov(path, reader, len(df), len(rows), None, assumptions, options)
+    prov = make_provenance(path, reader, len(df), len(rows), None, assumptions, options)
     notes.extend(f"{source}: {a}" for a in assumptions)
     return ReadResult([Chronology(df, meta, (prov,))], rejects_frame(rows), notes)
 
@@ -908,7 +892,7 @@ def _build_catalog(path: Path, raw: RawTable, plan: Plan, options: ReadOptions, 
     if no_mag:
         notes.append(f"{source}: {no_mag} event(s) without magnitude: counted, but excluded from energy and b-value")
     meta = SeriesMeta(kind="seismic_catalog", quantity="events", station=options.station or raw.meta.get("station"))
-    prov = _sha_and_prov(path, reader, len(df), len(rows), None, assumptions, options)
+    prov = make_provenance(path, reader, len(df), len(rows), None, assumptions, options)
     notes.extend(f"{source}: {a}" for a in dict.fromkeys(assumptions))
     return ReadResult([EventCatalog(df, meta, (prov,))], rejects_frame(rows), notes)
 
