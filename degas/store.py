@@ -62,8 +62,10 @@ _DTYPES: dict[str, dict[str, str]] = {
 _TYPES = {"TimeSeries": TimeSeries, "Chronology": Chronology, "EventCatalog": EventCatalog}
 _COLUMNS = {"TimeSeries": SERIES_COLUMNS, "Chronology": CHRONOLOGY_COLUMNS, "EventCatalog": CATALOG_COLUMNS}
 _KEYS = {"TimeSeries": ["time", "end"], "Chronology": ["start"], "EventCatalog": ["event_id"]}
-_COMPARE = {"TimeSeries": ["value"], "Chronology": ["end", "state", "style"],
-            "EventCatalog": ["time", "magnitude", "event_class"]}
+# every non-key column is compared: a revised value, uncertainty, flag, depth or magnitude is a conflict
+_COMPARE = {"TimeSeries": ["value", "uncertainty", "quality"], "Chronology": ["end", "state", "style", "note"],
+            "EventCatalog": ["time", "latitude_deg", "longitude_deg", "depth_m", "magnitude", "magnitude_type",
+                             "event_class"]}
 
 
 def conform(df: pd.DataFrame, record_type: str) -> pd.DataFrame:
@@ -168,6 +170,8 @@ class Archive:
     def create(cls, root: str | Path) -> Archive:
         """Create an empty archive (or open it when it already is one)."""
         root = Path(root)
+        if root.exists() and not root.is_dir():
+            raise ArchiveError(f"{root}: is a file, not an archive directory")
         if (root / MANIFEST).exists():
             return cls.open(root)
         if root.exists() and any(root.iterdir()):
@@ -353,6 +357,10 @@ class Archive:
             if meta.volume_basis != record.meta.volume_basis and len(new):
                 raise ArchiveError(f"series {sid}: stored volumes are {meta.volume_basis or 'of unknown basis'}, "
                                    f"new ones are {record.meta.volume_basis or 'of unknown basis'}; not mixing them")
+            if meta.unit != record.meta.unit and len(new):
+                raise ArchiveError(f"series {sid}: stored values are in {meta.unit!r}, new ones in "
+                                   f"{record.meta.unit!r}, which degas cannot convert for this kind; not mixing them "
+                                   "(ingest them under another --station or convert first)")
         else:
             merged = new
             outcome.added = len(new)
@@ -420,10 +428,12 @@ def _merge(old: pd.DataFrame, new: pd.DataFrame, rtype: str, sid: str, accept: b
             old = old.loc[keep_old]
         else:
             outcome.conflicts = int(conflict.sum())
-            for i in np.flatnonzero(conflict)[:10000]:
+            lines = record.data.attrs.get("source_lines")
+            for i in np.flatnonzero(conflict):
                 stored = old[comp[0]].iloc[pos[i]]
                 outcome.conflict_rows.append(
-                    (src, None, keys[0], f"conflicts with the stored value {stored} for {sid} "
+                    (src, None if lines is None else int(lines[i]), keys[0],
+                     f"conflicts with the stored value {stored} for {sid} "
                                          "(kept out; --accept-conflicts to replace)", str(new[keys[0]].iloc[i])))
     take = ~present | (conflict & accept)
     outcome.added = int((~present).sum())

@@ -180,3 +180,37 @@ def test_second_writer_is_refused_while_one_holds_the_lock(write, tmp_path):
     finally:
         fcntl.flock(fh, fcntl.LOCK_UN)
         fh.close()
+
+
+def test_revised_catalogue_values_are_conflicts_not_silent(write, tmp_path):
+    arc = Archive.create(tmp_path / "a")
+    head = "origin time (UTC),type,Md,depth (km),lat,lon\n"
+    arc.ingest_file(write("c1.csv", head + "2024-01-01 00:10,VT,1.2,3.0,1.2,102.3\n2024-01-01 00:20,LP,0.5,,,\n"))
+    # the next export revises a magnitude and a depth: same events (ids from time and place), other values
+    rep = arc.ingest_file(write("c2.csv", head + "2024-01-01 00:10,VT,1.2,8.0,1.2,102.3\n"
+                                                 "2024-01-01 00:20,LP,0.7,,,\n"))
+    (o,) = rep.outcomes
+    assert (o.added, o.conflicts) == (0, 2)
+    assert arc.entries()[0].n_rows == 2  # not stored twice
+    rej = arc.rejects()
+    assert sorted(rej.loc[rej["reason"].str.contains("conflicts"), "line"].tolist()) == ["2", "3"]
+
+
+def test_a_revised_uncertainty_is_a_conflict(write, tmp_path):
+    arc = Archive.create(tmp_path / "a")
+    arc.ingest_file(write("w1.csv", "time,SO2 flux (t/d),flux error (t/d)\n2024-01-01T00:00Z,864,10\n"))
+    rep = arc.ingest_file(write("w2.csv", "time,SO2 flux (t/d),flux error (t/d)\n2024-01-01T00:00Z,864,20\n"))
+    assert rep.outcomes[0].conflicts == 1
+
+
+def test_amplitudes_in_other_units_are_not_merged(write, tmp_path):
+    arc = Archive.create(tmp_path / "a")
+    arc.ingest_file(write("r1.csv", "time,RSAM (counts)\n2024-01-01T00:00Z,120\n"), ReadOptions(station="VLM1"))
+    with pytest.raises(ArchiveError, match="not mixing"):
+        arc.ingest_file(write("r2.csv", "time,RSAM (nm/s)\n2024-01-02T00:00Z,3.5\n"), ReadOptions(station="VLM1"))
+
+
+def test_archive_path_that_is_a_file(write, tmp_path):
+    f = write("a.csv", "x")
+    with pytest.raises(ArchiveError, match="is a file"):
+        Archive.create(f)

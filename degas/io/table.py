@@ -48,7 +48,9 @@ from degas.model import (
 from degas.units import conversion_factor
 
 HEAD_BYTES = 64 * 1024
-MISSING_CODES = (-999.0, -9999.0, -99999.0, 9999.0, 99999.0)
+# Missing-value codes that instrument exports use (common practice); only negative ones, so that a real
+# 9999 counts or 9999 t/d is never thrown away. Other codes: map them with a mapping file or clean first.
+MISSING_CODES = (-999.0, -9999.0, -99999.0)
 SERIES_KINDS = ("gas_flux", "gas_ratio", "extrusion_rate", "erupted_volume", "amplitude", "other")
 NONNEGATIVE_KINDS = ("gas_flux", "extrusion_rate", "erupted_volume")
 
@@ -95,6 +97,7 @@ class RawTable:
     meta: dict[str, str] = field(default_factory=dict)
     rejects: list[tuple] = field(default_factory=list)
     line_label: str = "line"
+    delimiter: str | None = None
 
 
 def _decode(data: bytes) -> str:
@@ -198,7 +201,7 @@ def load_delimited(path: Path) -> RawTable:
             bad.clear()
             table = _read(False)
     except pa.ArrowInvalid as exc:
-        if "UTF8" not in str(exc) or encoding == "latin-1":
+        if encoding == "latin-1" or ("UTF8" not in str(exc) and _valid_utf8(path)):
             raise InputError(path.name, f"cannot read as a delimited table: {str(exc).splitlines()[0]}") from None
         encoding = "latin-1"  # invalid UTF-8 beyond the sniffed head: every byte is a Latin-1 character
         meta["encoding"] = "latin-1 (not valid UTF-8)"
@@ -228,7 +231,20 @@ def load_delimited(path: Path) -> RawTable:
         if blank.any():
             frame = frame.loc[~blank].reset_index(drop=True)
             lines = lines[~blank]
-    return RawTable(frame, header, lines, meta, rejects)
+    return RawTable(frame, header, lines, meta, rejects, delimiter=delim)
+
+
+def _valid_utf8(path: Path) -> bool:
+    """True when the whole file decodes as UTF-8 (read in 1 MiB blocks)."""
+    dec = codecs.getincrementaldecoder("utf-8")()
+    try:
+        with open(path, "rb") as fh:
+            for block in iter(lambda: fh.read(1 << 20), b""):
+                dec.decode(block)
+            dec.decode(b"", final=True)
+    except UnicodeDecodeError:
+        return False
+    return True
 
 
 def load_excel(path: Path, sheet: str | int | None = None) -> RawTable:
@@ -429,8 +445,9 @@ class _Rejects:
         self.alive &= ~mask
 
 
-def _numeric(col: pd.Series) -> pd.Series:
-    """Cells -> float64; unparseable -> NaN. Accepts decimal commas ("1,25") in semicolon files."""
+def _numeric(col: pd.Series, decimal_comma: bool = False) -> pd.Series:
+    """Cells -> float64; unparseable -> NaN. Decimal commas ("1,25") only when ``decimal_comma`` (files
+    separated by semicolons or tabs); elsewhere "1,250" is ambiguous (a thousands separator?) and rejected."""
     if pd.api.types.is_numeric_dtype(col.dtype) and not pd.api.types.is_bool_dtype(col.dtype):
         return col.astype("float64")
     fast = _arrow_float(col)
@@ -439,7 +456,7 @@ def _numeric(col: pd.Series) -> pd.Series:
     s = col.astype("string").str.strip()
     out = pd.to_numeric(s, errors="coerce").astype("float64")
     bad = out.isna() & s.notna() & (s != "")
-    if bad.any():
+    if bad.any() and decimal_comma:
         comma = s[bad].str.fullmatch(r"-?\d+,\d+")
         if comma.any():
             fixed = pd.to_numeric(s[bad][comma].str.replace(",", ".", regex=False), errors="coerce")
@@ -473,26 +490,46 @@ def _unit_for(role_unit: str | None, header: Header | None, meta_unit: str | Non
     return role_unit or (header.unit if header else None) or meta_unit
 
 
+_UTC_OFFSET = re.compile(r"\b(?:utc|gmt)\s*([+-])\s*(\d{1,2})(?::?(\d\d))?", re.I)
+
+
+def _zone_from_text(text: str) -> str | None:
+    """"UTC-05:00" / "GMT+2" -> "-05:00" / "+02:00"; plain "UTC" -> "UTC"; else None."""
+    m = _UTC_OFFSET.search(text)
+    if m:
+        return f"{m.group(1)}{int(m.group(2)):02d}:{m.group(3) or '00'}"
+    if re.search(r"\butc\b|\bgmt\b", text, re.I) and not re.search(r"offset|local", text, re.I):
+        return "UTC"
+    return None
+
+
 def _times(raw: RawTable, col: str, options: ReadOptions, rej: _Rejects, source: str) -> tuple[pd.Series, tuple]:
     tz = options.timezone or raw.meta.get("timezone") or raw.meta.get("time zone")
-    times_meta = raw.meta.get("times", "")
-    if tz is None and re.search(r"\butc\b", times_meta, re.I) and not re.search(r"offset", times_meta, re.I):
-        tz = "UTC"
-    if tz is None and re.search(r"\butc\b", col, re.I):
-        tz = "UTC"
+    extra: tuple[str, ...] = ()
+    if tz is None:
+        for text, where in ((raw.meta.get("times", ""), "file header"), (col, "column name")):
+            tz = _zone_from_text(text)
+            if tz is not None:
+                extra = (f"naive timestamps taken in {tz} (from the {where} {text!r})",)
+                break
     try:
         parsed = parse_times(raw.frame[col], time_format=options.time_format, timezone=tz, dayfirst=options.dayfirst)
-    except Exception as exc:
-        from degas.errors import DegasError
-
-        if isinstance(exc, DegasError):
-            raise InputError(source, str(exc), column=col) from None
-        raise
+    except DegasError as exc:
+        raise InputError(source, str(exc), column=col) from None
+    except (ValueError, TypeError) as exc:
+        raise InputError(source, f"cannot read times with format {options.time_format!r}: {exc}",
+                         column=col) from None
     t = parsed.times
     blank = _blank(raw.frame[col])
     rej.reject(blank, col, "missing time")
+    if parsed.local_invalid is not None:
+        rej.reject(parsed.local_invalid, col, f"ambiguous or nonexistent local time in {tz} (daylight-saving "
+                                              "change); give times in UTC or with an offset", raw.frame[col])
     rej.reject(t.isna().to_numpy() & ~blank, col, "unparseable time", raw.frame[col])
-    return t, parsed.assumptions
+    assumptions = parsed.assumptions
+    if extra and any(a.startswith("naive timestamps taken in") for a in assumptions):
+        assumptions = tuple(a for a in assumptions if not a.startswith("naive timestamps taken in")) + extra
+    return t, assumptions
 
 
 def _dedupe_and_sort(df: pd.DataFrame, lines: np.ndarray, key: list[str], compare: list[str], source: str,
@@ -606,7 +643,7 @@ def _build_series(path: Path, raw: RawTable, plan: Plan, options: ReadOptions, r
                 raise InputError(source, str(exc), column=col) from None
         if kind in ("erupted_volume", "extrusion_rate"):
             basis = options.volume_basis or volume_basis_in(header) or _basis_from_meta(raw)
-        values = _numeric(raw.frame[col])
+        values = _numeric(raw.frame[col], raw.delimiter in (";", "\t"))
         v = values.to_numpy()
         if np.isnan(v).any():  # only then look at why (the clean case skips the string work)
             blank = _blank(raw.frame[col])
@@ -625,7 +662,7 @@ def _build_series(path: Path, raw: RawTable, plan: Plan, options: ReadOptions, r
             uh = split_header(ucol)
             uunit = options.units.get("uncertainty") or uh.unit or unit
             ufactor = factor if kind == "gas_ratio" else (conversion_factor(uunit, canonical) if canonical else 1.0)
-            unc = _numeric(raw.frame[ucol]).to_numpy() * ufactor
+            unc = _numeric(raw.frame[ucol], raw.delimiter in (";", "\t")).to_numpy() * ufactor
             neg_u = unc < 0
             rej.reject(neg_u, ucol, "negative uncertainty", raw.frame[ucol])
         values_si = v * factor
@@ -663,6 +700,7 @@ def _build_series(path: Path, raw: RawTable, plan: Plan, options: ReadOptions, r
             part, plines = _dedupe_and_sort(df.loc[sel], lines[sel], ["time"], ["value", "end"], source, rows, notes,
                                             "timestamp", plan.roles["time"])
             part = part.astype({"time": "datetime64[ns, UTC]", "end": "datetime64[ns, UTC]"})
+            part.attrs["source_lines"] = plines  # file line of each row, for conflicts found in the archive
             station_s = None if station is None or pd.isna(station) else str(station)
             meta = SeriesMeta(
                 kind=kind,
@@ -790,6 +828,7 @@ def _build_chronology(path: Path, raw: RawTable, plan: Plan, options: ReadOption
     rows = rej.rows
     df, lines = _dedupe_and_sort(df, lines, ["start"], ["end", "state"], source, rows, notes, "phase start",
                                  plan.roles["time"])
+    df.attrs["source_lines"] = lines
     ov = df["start"].iloc[1:].to_numpy() < df["end"].iloc[:-1].fillna(pd.Timestamp.max.tz_localize("UTC")).to_numpy()
     if ov.any():
         notes.append(f"{source}: {int(ov.sum())} phase(s) overlap the previous one (kept as given)")
@@ -837,7 +876,7 @@ def _build_catalog(path: Path, raw: RawTable, plan: Plan, options: ReadOptions, 
         if role not in plan.roles:
             return np.full(n, np.nan)
         col = raw.frame[plan.roles[role]]
-        v = _numeric(col).to_numpy()
+        v = _numeric(col, raw.delimiter in (";", "\t")).to_numpy()
         bad = np.isnan(v) & ~_blank(col)
         rej.reject(bad | np.isinf(v), plan.roles[role], f"{role} is not a number", col)
         return v
@@ -888,6 +927,7 @@ def _build_catalog(path: Path, raw: RawTable, plan: Plan, options: ReadOptions, 
     rows = rej.rows
     df, lines = _dedupe_and_sort(df, lines, ["event_id"], ["time", "magnitude"], source, rows, notes, "event id",
                                  plan.roles.get("event_id"), sort_by="time")
+    df.attrs["source_lines"] = lines
     no_mag = int(df["magnitude"].isna().sum())
     if no_mag:
         notes.append(f"{source}: {no_mag} event(s) without magnitude: counted, but excluded from energy and b-value")
@@ -898,11 +938,12 @@ def _build_catalog(path: Path, raw: RawTable, plan: Plan, options: ReadOptions, 
 
 
 def _event_ids(times: pd.Series, lat, lon, mag, labels: pd.Series) -> pd.Series:
-    """Stable ids for events without one: a hash of time, place, magnitude and label."""
+    """Stable ids for events without one: a hash of origin time, place and label (not the magnitude, so that
+    a re-export with a revised magnitude is recognised as the same event and reported as a conflict)."""
     t = times.to_numpy(dtype="datetime64[ns]").astype("int64")
     out = []
-    for ti, a, b, m, lab in zip(t, lat, lon, mag, labels.to_numpy(), strict=True):
-        key = f"{ti}|{a:.5f}|{b:.5f}|{m:.2f}|{lab}"
+    for ti, a, b, lab in zip(t, lat, lon, labels.to_numpy(), strict=True):
+        key = f"{ti}|{a:.5f}|{b:.5f}|{lab}"
         out.append("h" + hashlib.sha1(key.encode()).hexdigest()[:16])
     return pd.Series(out, index=times.index, dtype="string")
 

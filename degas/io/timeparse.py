@@ -27,6 +27,7 @@ class ParsedTimes:
     times: pd.Series
     format: str
     assumptions: tuple[str, ...]
+    local_invalid: np.ndarray | None = None  # cells that parsed but do not exist / are ambiguous in the zone
 
 
 def parse_times(
@@ -56,7 +57,7 @@ def parse_times(
         return ParsedTimes(_to_ns(raw), "native", ())
     if pd.api.types.is_datetime64_dtype(raw.dtype):
         t, a = _localise(raw, timezone)
-        return ParsedTimes(t, "native", a)
+        return ParsedTimes(t, "native", a, t.attrs.get("local_invalid"))
 
     numeric = None
     if fmt in ("excel", "decimal_year", "unix") or (fmt is None and _looks_numeric(raw)):
@@ -70,7 +71,7 @@ def parse_times(
     if fmt in (None, "iso") and not dayfirst:
         fast = _arrow_iso(raw, timezone)
         if fast is not None:
-            return ParsedTimes(fast[0], "iso", tuple(assumptions) + fast[1])
+            return ParsedTimes(fast[0], "iso", tuple(assumptions) + fast[1], fast[0].attrs.get("local_invalid"))
     s = raw.astype("string").str.strip()
     if fmt is not None and "%" in fmt:
         parsed = pd.to_datetime(s, format=fmt, errors="coerce", utc=False)
@@ -84,12 +85,17 @@ def parse_times(
         if isinstance(parsed, tuple):
             aware, naive = parsed
             local, a = _localise(naive, timezone)
+            bad_local = local.attrs.get("local_invalid")
             aware.loc[naive.index] = local
-            return ParsedTimes(aware, "iso (mixed offsets and naive)", tuple(assumptions) + a)
+            invalid = None
+            if bad_local is not None:
+                invalid = np.zeros(len(aware), dtype=bool)
+                invalid[aware.index.get_indexer(naive.index)] = bad_local
+            return ParsedTimes(aware, "iso (mixed offsets and naive)", tuple(assumptions) + a, invalid)
     if isinstance(parsed.dtype, pd.DatetimeTZDtype):
         return ParsedTimes(_to_ns(parsed), used, tuple(assumptions))
     t, a = _localise(parsed, timezone)
-    return ParsedTimes(t, used, tuple(assumptions) + a)
+    return ParsedTimes(t, used, tuple(assumptions) + a, t.attrs.get("local_invalid"))
 
 
 def _arrow_iso(raw: pd.Series, timezone: str | None) -> tuple[pd.Series, tuple[str, ...]] | None:
@@ -171,7 +177,9 @@ def _localise(t: pd.Series, timezone: str | None) -> tuple[pd.Series, tuple[str,
         local = t.dt.tz_localize(_tz(timezone), ambiguous="NaT", nonexistent="NaT")
     except (ValueError, TypeError, KeyError) as exc:
         raise DegasError(f"unknown time zone {timezone!r}: {exc}") from None
-    return local.dt.tz_convert("UTC"), (f"naive timestamps taken in time zone {timezone}",)
+    out = local.dt.tz_convert("UTC")
+    out.attrs["local_invalid"] = (out.isna() & t.notna()).to_numpy()
+    return out, (f"naive timestamps taken in time zone {timezone}",)
 
 
 def _tz(name: str):

@@ -300,3 +300,46 @@ def test_catalogue_csv_with_local_codes(write):
     assert d["time"].is_monotonic_increasing and d["event_id"].is_unique
     assert any("without magnitude" in n for n in res.notes)
     assert res.rejects.iloc[0]["line"] == 6 and "not a number" in res.rejects.iloc[0]["reason"]
+
+
+def test_thousands_separator_in_a_comma_file_is_not_a_decimal_comma(write):
+    res = read(write("x.csv", 'time,SO2 flux (t/d)\n2024-01-01T00:00Z,"1,250"\n2024-01-02T00:00Z,900\n'))
+    (ts,) = res.records
+    assert ts.data["value"].tolist() == pytest.approx([900 / 86.4])
+    assert "not a number" in res.rejects.iloc[0]["reason"]
+
+
+def test_utc_offset_stated_in_the_preamble(write):
+    res = read(write("x.csv", "# times: local time (UTC-05:00)\ntime,SO2 flux (t/d)\n2024-01-01 07:00,1\n"))
+    (ts,) = res.records
+    assert ts.data["time"].iloc[0] == pd.Timestamp("2024-01-01 12:00", tz="UTC")
+    assert any("-05:00" in a for a in ts.provenance[0].assumptions)
+    (ts,) = read(write("y.csv", "# times: UTC\ntime,SO2 flux (t/d)\n2024-01-01 07:00,1\n")).records
+    assert ts.data["time"].iloc[0] == pd.Timestamp("2024-01-01 07:00", tz="UTC")
+
+
+def test_daylight_saving_gaps_are_rejected_with_the_reason(write):
+    # 2024-03-31 02:30 does not exist in Central European time (clocks jump from 02:00 to 03:00)
+    text = "time,SO2 flux (t/d)\n2024-03-31 01:30,1\n2024-03-31 02:30,2\n2024-03-31 03:30,3\n"
+    res = read(write("x.csv", text), ReadOptions(timezone="Europe/Berlin"))
+    assert len(res.records[0]) == 2
+    assert "daylight-saving" in res.rejects.iloc[0]["reason"] and res.rejects.iloc[0]["line"] == 3
+
+
+def test_bad_strftime_pattern_is_a_clean_error(write):
+    with pytest.raises(InputError, match="cannot read times with format"):
+        read(write("x.csv", "time,SO2 flux (t/d)\n2024-01-01,1\n"), ReadOptions(time_format="%Q"))
+
+
+def test_real_9999_values_are_kept(write):
+    (ts,) = read(write("r.csv", "time,RSAM (counts)\n2024-01-01T00:00Z,9999\n")).records
+    assert ts.data["value"].tolist() == [9999.0]
+
+
+@pytest.mark.filterwarnings("ignore::pytest.PytestUnraisableExceptionWarning")  # pyarrow's first, UTF-8 pass
+def test_invalid_utf8_after_the_sniffed_head_rejects_one_row_not_the_file(write):
+    good = "".join(f"2024-01-01T{h:02d}:{m:02d}Z,{h + m}\n" for h in range(24) for m in range(60))
+    data = ("time,SO2 flux (t/d)\n" + good * 3).encode() + b"2024-01-05T00:00Z,\xc5\xff,7\n" + b"2024-01-06T00:00Z,5\n"
+    assert len(data) > 64 * 1024
+    res = read(write("x.csv", data))
+    assert len(res.rejects) >= 1 and sum(len(r) for r in res.records) == 1441
