@@ -130,6 +130,9 @@ def run_all(archive: Archive, project: Project, *, mode: str = "weekly", before:
         t0 = time.perf_counter()
         if progress:
             progress(name)
+        if b.aligned is None and name != "load and align":
+            b.skipped.append(f"{name}: not run: the series could not be loaded and aligned")
+            return
         try:
             fn()
         except DegasError as exc:
@@ -149,9 +152,17 @@ def run_all(archive: Archive, project: Project, *, mode: str = "weekly", before:
 
 
 def _clip(rec, start, end):
+    """Rows that overlap [start, end]: a phase or survey interval that began earlier but runs into the span
+    is kept (the grid then counts only its part inside)."""
     col = "start" if "start" in rec.data.columns and "value" not in rec.data.columns else "time"
     t = rec.data[col]
-    return rec.with_data(rec.data.loc[(t >= start) & (t <= end)].reset_index(drop=True))
+    keep = t <= end
+    if "end" in rec.data.columns:
+        e = rec.data["end"]
+        keep &= (t >= start) | (e > start) | (e.isna() & (col == "start"))
+    else:
+        keep &= t >= start
+    return rec.with_data(rec.data.loc[keep].reset_index(drop=True))
 
 
 def _align(archive: Archive, b: RunBundle) -> None:

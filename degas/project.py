@@ -45,7 +45,8 @@ With it the weekly run is one command (``degas report ARCHIVE --project velmarra
     window_days = 7
     baseline_days = 90
 
-    [[file]]                      # optional: files to ingest, with reader options (as in a mapping file)
+    [[file]]                      # optional: files ingested before each weekly or report run (files already in
+                                  # the archive are skipped by SHA-256), with reader options as in a mapping file
     path = "exports/so2_north.csv"
     station = "VLM-N"
 """
@@ -132,9 +133,27 @@ _SECTIONS = {
 
 
 def load_project(path: str | Path) -> Project:
-    """Read and validate a project TOML; unknown sections or keys are an error naming them."""
+    """Read and validate a project TOML; unknown sections or keys are an error naming them.
+
+    ``[[file]]`` paths are resolved relative to the project file.
+    """
+    path = Path(path)
     raw = load_toml(path)
+    for f in raw.get("file", []) if isinstance(raw.get("file"), list) else []:
+        if isinstance(f, dict) and "path" in f and not Path(f["path"]).is_absolute():
+            f["path"] = str((path.parent / f["path"]).resolve())
     return project_from_dict(raw, str(path))
+
+
+_TYPES: dict[str, tuple[type, ...]] = {
+    "volcano": (str,), "observatory": (str,), "magma": (str,), "ratio": (str,), "catalog": (str,),
+    "step": (str,), "max_lag": (str,), "rolling_window": (str,), "rolling_step": (str,), "rolling_max_lag": (str,),
+    "variant": (str,), "min_segment": (str,), "max_gap": (str,), "penalty": (str, int, float),
+    "min_coverage": (int, float), "gas_factor": (int, float), "magma_threshold": (int, float),
+    "ratio_low": (int, float), "ratio_high": (int, float), "surrogates": (int,), "bootstrap": (int,),
+    "rolling_surrogates": (int,), "window_days": (int,), "baseline_days": (int,), "b_window_events": (int,),
+    "seed": (int,),
+}
 
 
 def project_from_dict(raw: dict, where: str = "project") -> Project:
@@ -151,6 +170,10 @@ def project_from_dict(raw: dict, where: str = "project") -> Project:
         if bad:
             raise ConfigError(f"{where}: unknown key(s) {bad} in [{section}]; valid: {', '.join(sorted(keys))}")
         for k, v in table.items():
+            want = _TYPES.get(keys[k])
+            if want and (not isinstance(v, want) or isinstance(v, bool)):
+                names = " or ".join("number" if t in (int, float) else "text" for t in dict.fromkeys(want))
+                raise ConfigError(f"{where}: [{section}] {k} must be {names}, got {v!r}")
             values[keys[k]] = v
     if "gas" in values:
         g = values["gas"]
@@ -168,6 +191,14 @@ def project_from_dict(raw: dict, where: str = "project") -> Project:
         except (TypeError, ValueError) as exc:
             raise ConfigError(f"{where}: [petrology]: {exc}") from None
     if "file" in raw:
+        from degas.io.mapping import options_from_dict
+
+        if not isinstance(raw["file"], list):
+            raise ConfigError(f"{where}: [[file]] entries must be an array of tables")
+        for i, f in enumerate(raw["file"]):
+            if not isinstance(f, dict) or "path" not in f:
+                raise ConfigError(f"{where}: [[file]] #{i + 1} needs a path")
+            options_from_dict(f, f"{where} [[file]] #{i + 1}")  # validates every reader option now
         values["files"] = tuple(dict(f) for f in raw["file"])
     try:
         proj = Project(**values)

@@ -4,16 +4,21 @@ from __future__ import annotations
 
 import json
 
+import pytest
+
 from degas.cli import main  # noqa: F401  (registers every command)
 from degas.cli._app import run
 from degas.store import Archive
 
 
+@pytest.mark.slow
 def test_demo_builds_the_archive_and_prints_the_inventory(tmp_path, capsys):
     arc = tmp_path / "demo-archive"
-    assert run(["demo", "--archive", str(arc)]) == 0
+    assert run(["demo", "--archive", str(arc), "--out", str(tmp_path / "reports")]) == 0
     out = capsys.readouterr().out
     assert "degas archive" in out and "9 series from 9 file(s)" in out
+    (report,) = (tmp_path / "reports").glob("degas-velmarra-episode-*.html")
+    assert f"report: {report}" in out and "possible sealing" in out
     a = Archive.open(arc)
     kinds = sorted({e.meta.kind for e in a.entries()})
     assert kinds == ["amplitude", "chronology", "erupted_volume", "extrusion_rate", "gas_flux", "gas_ratio",
@@ -26,5 +31,5 @@ def test_demo_builds_the_archive_and_prints_the_inventory(tmp_path, capsys):
     assert len(a.sources()) == 9 and all(len(sha) == 64 for sha in a.sources())
     # a second run rebuilds from scratch and gives the same manifest series
     before = json.loads((arc / "manifest.json").read_text())["series"].keys()
-    assert run(["demo", "--archive", str(arc)]) == 0
+    assert run(["demo", "--archive", str(arc), "--out", str(tmp_path / "reports")]) == 0
     assert json.loads((arc / "manifest.json").read_text())["series"].keys() == before

@@ -56,6 +56,10 @@ class PetrologyInputs:
             raise DegasError("DRE density must be positive (kg/m³)")
         if self.s_melt_inclusion < 0 or self.s_matrix_glass < 0:
             raise DegasError("S contents must be non-negative mass fractions")
+        if self.s_melt_inclusion <= self.s_matrix_glass:
+            raise DegasError(
+                f"S in melt inclusions ({self.s_melt_inclusion * 1e6:g} ppm) is not above S in matrix glass "
+                f"({self.s_matrix_glass * 1e6:g} ppm): the method sees no S lost on degassing; check the inputs")
 
     @classmethod
     def from_ppm(cls, s_mi_ppm: float, s_mg_ppm: float, *, s_mi_sd_ppm: float = 0.0, s_mg_sd_ppm: float = 0.0,

@@ -118,7 +118,8 @@ def couple(
     magma: str | None = typer.Option(None, help="Series id of magma output: extrusion rate or chronology "
                                                 "(default: the only one)."),
     step: str = typer.Option("1D", help="Grid step, e.g. '1D', '6h'."),
-    min_coverage: float = typer.Option(0.5, help="Bins with less coverage (0-1) are missing."),
+    min_coverage: float = typer.Option(0.3, help="Bins with less coverage (0-1) are missing (a daylight-only "
+                                                 "scanner covers about 0.4 of a day)."),
     max_lag: str = typer.Option("60D", help="Lag search range (positive lag = gas leads magma output)."),
     variant: str = typer.Option("prewhitened", help="prewhitened, raw or differenced."),
     surrogates: int = typer.Option(1000, help="Surrogates for the significance test (0: none)."),
@@ -206,7 +207,8 @@ def regimes(
     gas: str | None = typer.Option(None, help="Series id of the SO2 flux (default: the only one)."),
     magma: str | None = typer.Option(None, help="Series id of extrusion rate or chronology (default: the only)."),
     step: str = typer.Option("1D", help="Grid step."),
-    min_coverage: float = typer.Option(0.5, help="Bins with less coverage (0-1) are missing."),
+    min_coverage: float = typer.Option(0.3, help="Bins with less coverage (0-1) are missing (a daylight-only "
+                                                 "scanner covers about 0.4 of a day)."),
     gas_baseline: float | None = typer.Option(None, help="Passive-degassing baseline, t/d (default: the lowest "
                                                          "gas segment)."),
     gas_factor: float = typer.Option(2.0, help="Gas is active at this multiple of the baseline."),
@@ -249,7 +251,8 @@ def budget(
     ratio: str | None = typer.Option(None, help="Series id of a CO2/SO2 molar ratio: adds the CO2 flux total."),
     ratio_max_gap: str = typer.Option("7D", help="Longest distance a ratio measurement is carried."),
     step: str = typer.Option("1D", help="Grid step."),
-    min_coverage: float = typer.Option(0.5, help="Bins with less coverage (0-1) are missing."),
+    min_coverage: float = typer.Option(0.3, help="Bins with less coverage (0-1) are missing (a daylight-only "
+                                                 "scanner covers about 0.4 of a day)."),
     segments: str = typer.Option("changepoints", help="'changepoints' (on the gas flux) or 'none'."),
     s_mi: float | None = typer.Option(None, help="S in melt inclusions, ppm (enables the petrological method)."),
     s_mi_sd: float = typer.Option(0.0, help="1-sigma of S in melt inclusions, ppm."),

@@ -158,6 +158,11 @@ def unknowns(bundle) -> list[Sentence]:
         for n in r.notes:
             if "no data" in n or "only" in n:
                 out.append(Sentence(f"gap:{r.series_id}", f"{r.series_id}: {n}."))
+    for label in ("window", "baseline"):
+        msg = bundle.review_regime.get(f"b_{label}")
+        if isinstance(msg, str):
+            out.append(Sentence(f"gap:b_{label}", f"b-value of the {'week' if label == 'window' else 'baseline'} "
+                                                  f"not computed: {msg}."))
     for s in bundle.skipped:
         out.append(Sentence("skipped", s + "."))
     return out

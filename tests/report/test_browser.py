@@ -17,7 +17,7 @@ import pytest
 from degas.report.summary import summarise
 
 CHROMIUM = shutil.which("chromium") or shutil.which("chromium-browser") or shutil.which("google-chrome")
-pytestmark = [pytest.mark.browser,
+pytestmark = [pytest.mark.browser, pytest.mark.slow,
               pytest.mark.skipif(CHROMIUM is None, reason="no Chromium installed (apt-get install chromium)")]
 
 PROBE = """<script>

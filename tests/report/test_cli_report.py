@@ -42,3 +42,32 @@ def test_report_errors_are_one_line(demo_archive, tmp_path, capsys):
     bad.write_text('[volcano]\nname = "X"\ncolour = "red"\n')
     assert run(["report", str(demo_archive.root), "--project", str(bad)]) == 2
     assert "unknown key(s) ['colour'] in [volcano]" in capsys.readouterr().err
+
+
+def test_couple_runs_on_the_demo_archive_with_its_defaults(demo_archive, capsys):
+    rc = run(["couple", str(demo_archive.root), "--gas", "gas_flux.so2_flux.VLM-N", "--magma",
+              "extrusion_rate.extrusion_rate.VLM-CAM", "--variant", "raw", "--surrogates", "200", "--boot", "0",
+              "--max-lag", "20D", "--no-granger"])
+    out = capsys.readouterr().out
+    assert rc == 0 and "positive lag = gas leads" in out
+
+
+def test_project_files_are_ingested_before_the_run(tmp_path, capsys):
+    rows = "".join(f"2024-0{m}-{d:02d}T12:00Z,{100 + d}\n" for m in (1, 2, 3, 4) for d in range(1, 29))
+    (tmp_path / "so2.csv").write_text("time,SO2 flux (t/d)\n" + rows)
+    proj = tmp_path / "p.toml"
+    proj.write_text('[volcano]\nname = "Testberg"\n[[file]]\npath = "so2.csv"\nstation = "TB-1"\n')
+    arc = tmp_path / "arc"
+    assert run(["weekly", str(arc), "--project", str(proj), "--before", "2024-04-29"]) == 0
+    out = capsys.readouterr().out
+    assert "so2.csv: 112 rows read, 112 added to gas_flux.so2_flux.TB-1" in out
+    assert "SO2 flux at TB-1" in out
+    assert run(["weekly", str(arc), "--project", str(proj), "--before", "2024-04-29"]) == 0
+    assert "already in the archive" in capsys.readouterr().out
+    bad = tmp_path / "bad.toml"
+    bad.write_text('[analysis]\nmin_coverage = "0.5"\n')
+    assert run(["weekly", str(arc), "--project", str(bad)]) == 2
+    assert "min_coverage must be number" in capsys.readouterr().err
+    bad.write_text('[[file]]\npath = "so2.csv"\nstaton = "x"\n')
+    assert run(["weekly", str(arc), "--project", str(bad)]) == 2
+    assert "unknown option(s) ['staton']" in capsys.readouterr().err

@@ -127,3 +127,49 @@ def test_input_text_is_escaped_in_the_report(tmp_path):
     html, _ = render_report(bundle)
     assert "<img src=x" not in html and "<script>alert(2)" not in html
     assert "&lt;script&gt;alert(2)&lt;/script&gt;" in html
+
+
+def test_every_number_in_the_other_sentences_comes_from_its_result(demo_bundle):
+    from degas.report.summary import _num
+
+    s = _sentences(demo_bundle)
+    o = demo_bundle.budget.overall
+    text = s["budget:overall"]
+    assert f"{_num(o['so2_mass_kg'] / 1e6)} kt SO2" in text  # kg -> kt: ÷ 1e6
+    assert f"{o['dre_volume_m3'] / 1e6:.3g} Mm³ DRE" in text  # m³ -> Mm³: ÷ 1e6
+    assert f"= {o['excess_factor']:.2f} (95% {o['excess_p2_5']:.2f} to {o['excess_p97_5']:.2f})" in text
+    rev = next(r for r in demo_bundle.review if r.series_id == "gas_flux.so2_flux.VLM-N")
+    text = s["level:gas_flux.so2_flux.VLM-N"]
+    assert f"median {_num(rev.level_window)} t/d" in text and f"baseline of {_num(rev.level_baseline)}" in text
+    assert f"robust z = {_num(rev.robust_z, 2)}" in text
+    lp = next(r for r in demo_bundle.review_events if r.event_class == "LP")
+    assert f"{lp.rate_window_per_day:.1f} per day in the week vs {lp.rate_baseline_per_day:.1f}" in s["rate:LP"]
+    bw = demo_bundle.review_regime["b_window"]
+    if isinstance(bw, str):  # too few events in the week: the summary says so instead of giving a number
+        assert bw in s["gap:b_window"] and "b:window" not in s
+    else:
+        assert f"b-value {bw.b:.2f} ± {bw.sigma:.2f}" in s["b:window"]
+
+
+def test_retrospective_inside_the_record_keeps_phases_that_began_earlier(demo_archive, demo_bundle):
+    from degas.pipeline import run_all
+    from degas.project import load_project
+    from tests.conftest import REPO
+
+    project = load_project(REPO / "demo_series" / "velmarra.toml")
+    # the second eruptive phase began 2024-06-01 and the chronology's pause 2023-12-01: both run into the span
+    b = run_all(demo_archive, project, mode="retrospective", start=pd.Timestamp("2024-09-01", tz="UTC"),
+                end=pd.Timestamp("2024-11-30", tz="UTC"))
+    frac = b.aligned.frame["chronology"]
+    assert frac.notna().all() and (frac == 1.0).all()
+    full = demo_bundle.aligned.frame.loc[b.aligned.frame.index, "magma"]
+    pd.testing.assert_series_equal(b.aligned.frame["magma"], full)  # clipping lost no camera day
+
+
+def test_a_review_before_any_data_says_what_it_could_not_do(demo_archive):
+    from degas.pipeline import run_all
+    from degas.project import Project
+
+    b = run_all(demo_archive, Project(), mode="weekly", before=pd.Timestamp("2020-01-01", tz="UTC"))
+    assert any("not run" in x for x in b.skipped)
+    assert b.regimes is None and b.xcorr is None
