@@ -256,6 +256,8 @@ def _regimes(b: RunBundle) -> None:
         raise DegasError("needs change points of both the gas flux and the magma output")
     p = b.project
     measure = "eruptive_fraction" if b.aligned.kinds.get("magma", "chronology") == "chronology" else "extrusion_rate"
+    # the expected gas per magma is the record's own (coupled intervals), not the petrological value: the
+    # petrological method gives a minimum (Devine et al. 1984) and is reported separately in the budget
     b.regimes = classify_regimes(segments_table(b.changepoints["gas"], "gas"),
                                  segments_table(b.changepoints["magma"], "magma"), magma_measure=measure,
                                  gas_factor=p.gas_factor, magma_threshold=p.magma_threshold, ratio_low=p.ratio_low,

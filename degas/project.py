@@ -25,7 +25,7 @@ With it the weekly run is one command (``degas report ARCHIVE --project velmarra
     max_gap = "10D"
     penalty = "bic3"
 
-    [regimes]
+    [regimes]                     # project defaults, not published values: tune per volcano
     gas_factor = 2.0              # gas active above this multiple of the baseline
     magma_threshold = 0.1         # m³/s DRE
     ratio_low = 0.3               # gas-poor below this fraction of the expected gas per magma

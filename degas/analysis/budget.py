@@ -162,7 +162,8 @@ def gas_budget(
     error_correlation : which flux-error model feeds ratio_sd and the Monte Carlo ("independent"
         per bin, or fully "correlated"); both mass uncertainties are always reported.
     n_monte_carlo, seed : Monte Carlo draws and seed.
-    excess_high, excess_low : excess-factor thresholds for the ``finding`` text.
+    excess_high, excess_low : excess-factor thresholds for the ``finding`` text (project defaults 3 and 0.5,
+        not published values; excess factors of ~10-100 are reported for explosive arc eruptions, Wallace 2001).
     """
     if error_correlation not in ERROR_CORRELATIONS:
         raise DegasError(f"unknown error correlation {error_correlation!r}; valid: independent, correlated")

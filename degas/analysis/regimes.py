@@ -13,7 +13,8 @@ segmentations are intersected; each piece gets one of four labels:
   ratio_low × expected: gas-poor output, possibly sealing (one interpretation among several:
   declining supply, scrubbing or plume geometry can look the same).
 
-Thresholds, all configurable and reported per interval:
+Thresholds, all configurable and reported per interval. The defaults are this project's starting points,
+not published values (no standard exists; tune them per volcano with its observatory):
 
 * gas baseline (kg/s): given, or the level of the lowest gas segment (stated in the notes);
 * gas active: level >= ``gas_factor`` × baseline (default 2);
