@@ -375,15 +375,21 @@ def generate_scenario(seed: int = DEFAULT_SEED, *, start: str = DEFAULT_START, e
     return Scenario(days, q, so2_kg_s, ratio, lp_hb, events, phases, truth, int(seed))
 
 
+#: Largest magnitude of the demo's volcanic seismicity: a Gutenberg-Richter law truncated at M_MAX (common
+#: practice for local volcanic catalogues; a dome volcano's swarm events rarely exceed M 4).
+M_MAX = 4.0
+
+
 def _gr_magnitudes(rng: np.random.Generator, n: int, b: float, mu: float, sigma: float) -> np.ndarray:
-    """n magnitudes from a Gutenberg-Richter law (slope b) thinned by a normal-CDF detection roll-off."""
+    """n magnitudes from a Gutenberg-Richter law (slope b) truncated at M_MAX, thinned by a normal-CDF
+    detection roll-off."""
     from scipy.special import ndtr
 
     beta = b * math.log(10.0)
     out = np.empty(0)
     while len(out) < n:
         m = 0.0 + rng.exponential(1.0 / beta, size=4 * n + 64)
-        keep = rng.random(m.size) < ndtr((m - mu) / sigma)
+        keep = (rng.random(m.size) < ndtr((m - mu) / sigma)) & (m <= M_MAX)
         out = np.concatenate([out, m[keep]])
     return out[:n]
 
@@ -608,6 +614,7 @@ def _truth(seed: int, days: pd.DatetimeIndex, phases: tuple[Phase, ...], phase_i
             "b_value_note": ("Gutenberg-Richter slopes of the generated magnitudes; volcanic high b for LP/hybrid "
                              "(McNutt 2005; common practice). Local Md rounded to 0.1."),
             "completeness_magnitude_local": MC_LOCAL,
+            "maximum_magnitude": M_MAX,
             "detection_rolloff_local": {"m50": _DETECT_MU, "sigma": _DETECT_SIGMA,
                                         "form": "P(detect) = Phi((M - m50) / sigma)"},
             "detection_rolloff_regional": {"m50": _REGIONAL_MU, "sigma": _REGIONAL_SIGMA},

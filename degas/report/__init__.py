@@ -21,6 +21,8 @@ from degas.report.tables import write_table
 from degas.units import KG_S_TO_T_D
 
 DAY = pd.Timedelta("1D")
+#: display unit of the levels in the change-point and segment tables, per analysed series
+CHANGE_UNITS = {"gas": "t/d", "magma": "m³/s DRE", "ratio": "mol/mol", "lp_hybrid_rate": "events per bin"}
 
 
 def report_name(bundle) -> str:
@@ -45,8 +47,9 @@ def tables(bundle) -> dict[str, pd.DataFrame]:
                 ch[c] = ch[c] * KG_S_TO_T_D
             seg["level"] = seg["level"] * KG_S_TO_T_D
             seg["spread"] = seg["spread"] * KG_S_TO_T_D
-        cps.append(ch)
-        segs.append(seg)
+        unit = CHANGE_UNITS.get(name, "")
+        cps.append(ch.assign(unit=unit))
+        segs.append(seg.assign(unit=unit))
     if cps:
         out["change_points"] = pd.concat(cps, ignore_index=True)
         out["segments"] = pd.concat(segs, ignore_index=True)
@@ -168,8 +171,14 @@ def render_report(bundle) -> tuple[str, dict]:
             sections.setdefault(sid, (heading, []))[1].append(page.figure(fig, fid, cap))
     tabs = tables(bundle)
     if "regimes" in tabs:
+        r = tabs["regimes"]
+        shown = pd.DataFrame({"start": r["start"], "end": r["end"], "days": r["duration_days"], "label": r["label"],
+                              "SO2 (t/d)": r["gas_t_d"], "× baseline": r["gas_to_baseline"],
+                              "magma output": r["magma_level"], "gas per magma vs expected": r["ratio_vs_expected"],
+                              "evidence": r["evidence"]})
         sections.setdefault("series", ("Monitoring series", []))[1].append(
-            "<h3>Regime intervals</h3>" + table_html(tabs["regimes"].drop(columns=["gas_kg_s"], errors="ignore")))
+            "<h3>Regime intervals</h3>" + table_html(shown)
+            + '<p class="caption">Every column, with the thresholds used, is in the appendix file regimes.csv.</p>')
     if "change_points" in tabs:
         sections["series"][1].append("<h3>Change points</h3>" + table_html(tabs["change_points"]))
     if "lag_results" in tabs:
@@ -178,7 +187,24 @@ def render_report(bundle) -> tuple[str, dict]:
         sections["lag"][1].append("<h3>Granger tests (predictive precedence, not physical causation)</h3>"
                                   + table_html(bundle.granger.to_frame()))
     if "budget" in tabs:
-        sections.setdefault("budget", ("Gas budget", []))[1].append(table_html(tabs["budget"]))
+        bt = tabs["budget"]
+        shown = pd.DataFrame({"start": bt["start"], "end": bt["end"], "days": bt["duration_days"],
+                              "SO2 (kt)": bt["so2_mass_kg"] / 1e6,
+                              "± kt (independent / correlated errors)": [
+                                  f"{a / 1e6:.3g} / {c / 1e6:.3g}" for a, c in
+                                  zip(bt["so2_mass_sd_independent_kg"], bt["so2_mass_sd_correlated_kg"], strict=True)],
+                              "DRE (Mm³)": bt["dre_volume_m3"] / 1e6, "kg SO2 per m³": bt["ratio_kg_per_m3"]})
+        if "excess_factor" in bt:
+            shown["expected SO2 (kt, 95%)"] = [
+                "" if pd.isna(e) else f"{e / 1e6:.3g} ({lo / 1e6:.3g}-{hi / 1e6:.3g})" for e, lo, hi in
+                zip(bt["expected_so2_kg"], bt["expected_so2_p2_5_kg"], bt["expected_so2_p97_5_kg"], strict=True)]
+            shown["observed / expected (95%)"] = [
+                "" if pd.isna(e) else f"{e:.2f} ({lo:.2f}-{hi:.2f})" for e, lo, hi in
+                zip(bt["excess_factor"], bt["excess_p2_5"], bt["excess_p97_5"], strict=True)]
+            shown["finding"] = bt["finding"]
+        sections.setdefault("budget", ("Gas budget", []))[1].append(
+            table_html(shown) + '<p class="caption">Last row: the whole span. SI values in the appendix file '
+            "budget.csv.</p>")
     for sid, (heading, parts) in sections.items():
         page.add(sid, heading, "".join(parts))
     rev = []
