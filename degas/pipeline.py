@@ -36,6 +36,7 @@ class RunBundle:
     assumptions: list[str]
     roles: dict[str, str | tuple[str, ...]]
     records: dict = field(default_factory=dict)  # name -> canonical record used (full data)
+    archive: Archive | None = None
     aligned: object | None = None  # AlignedTable on the analysis grid
     changepoints: dict = field(default_factory=dict)  # name -> ChangePointResult
     regimes: object | None = None
@@ -109,7 +110,8 @@ def run_all(archive: Archive, project: Project, *, mode: str = "weekly", before:
     data_end = max(e for _, e in spans)
     assumptions = sorted({a for e in archive.entries() for p in e.provenance for a in p.assumptions})
     b = RunBundle(project, str(archive.root), mode, data_start, data_end,
-                  pd.Timestamp.now(tz="UTC").isoformat(timespec="seconds"), inv, archive.sources(), assumptions, roles)
+                  pd.Timestamp.now(tz="UTC").isoformat(timespec="seconds"), inv, archive.sources(), assumptions, roles,
+                  archive=archive)
     if mode == "weekly":
         before = pd.Timestamp(before) if before is not None else (data_end + pd.Timedelta("1D")).floor("D")
         before = before.tz_localize("UTC") if before.tzinfo is None else before
@@ -364,9 +366,14 @@ def _review(b: RunBundle) -> None:
     from degas.analysis.seismicity import estimate_b_value
 
     per = b.periods
-    for rec in b.records.values():
-        if rec.meta.kind in ("chronology", "seismic_catalog"):
+    # every sampled series in the archive, not only those the coupling analysis uses
+    used = {getattr(r.meta, "series_id", None): r for r in b.records.values()}
+    for e in b.archive.entries() if b.archive is not None else []:
+        if e.record_type != "TimeSeries":
             continue
+        rec = used.get(e.series_id)
+        if rec is None or rec.meta.kind != e.meta.kind:
+            rec = _clip(b.archive.load(e.series_id), per.baseline_start, per.window_end - pd.Timedelta(1, "ns"))
         b.review.append(review_series(rec, per, min_coverage=b.project.min_coverage, seed=b.project.seed))
     if "catalog" in b.records:
         cat = b.records["catalog"]

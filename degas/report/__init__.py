@@ -15,6 +15,7 @@ import pandas as pd
 
 import degas
 from degas.report import figures as F
+from degas.report.cautions import STANDING_CAUTIONS
 from degas.report.html import Page, esc, table_html
 from degas.report.summary import summarise
 from degas.report.tables import write_table
@@ -123,6 +124,7 @@ def _methods(bundle) -> str:
         "b-value by Aki (1965) with the Utsu (1966) binning correction and Shi &amp; Bolt (1982) uncertainty; Mc by "
         "maximum curvature + 0.2 (Wiemer &amp; Wyss 2000; Woessner &amp; Wiemer 2005). Seismic energy from "
         "log10 E = 1.5 M + 4.8 (Gutenberg &amp; Richter 1956, approximate).</p>",
+        "<h3>Cautions</h3><ul>" + "".join(f"<li>{esc(c)}</li>" for c in STANDING_CAUTIONS) + "</ul>",
         "<h3>Series used</h3>" + table_html(pd.DataFrame({"role": list(roles), "series": [str(v) for v in
                                                                                       roles.values()]})),
         "<h3>Parameters</h3>" + table_html(prm),

@@ -89,6 +89,8 @@ def test_report_file_is_self_contained_small_and_named(demo_report, demo_bundle)
     assert not re.search(r"<script[^>]+src=", html, re.I)
     assert not re.search(r"<link[^>]+href=[\"']?https?:", html, re.I)
     assert "Read this first" in html and "civil-protection authorities" in html and "not a forecast" in html
+    methods = html[html.index('<section id="methods">'):]
+    assert "<h3>Cautions</h3>" in methods and "not a forecast" in methods  # cautions at the top and in the methods
     for sha in demo_bundle.sources:
         assert sha in html  # every input file's SHA-256 in the provenance
     assert demo_bundle.assumptions  # e.g. the vesicularity used for bulk -> DRE
