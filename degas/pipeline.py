@@ -315,7 +315,7 @@ def _granger(b: RunBundle) -> None:
 
 
 def _budget(b: RunBundle) -> None:
-    from degas.analysis.budget import PetrologyInputs, co2_flux, gas_budget
+    from degas.analysis.budget import co2_flux, gas_budget
 
     if b.aligned.kinds.get("magma") != "extrusion_rate":
         raise DegasError("the budget needs an extrusion rate or survey volumes (a chronology gives no volume)")
@@ -325,14 +325,7 @@ def _budget(b: RunBundle) -> None:
         seg = b.regimes.intervals[["start", "end"]]
     elif "gas" in b.changepoints:
         seg = b.changepoints["gas"].segments[["start", "end"]]
-    petro = None
-    pp = b.project.petrology
-    if pp is not None:
-        petro = PetrologyInputs.from_ppm(pp.s_melt_inclusion_ppm, pp.s_matrix_glass_ppm,
-                                         s_mi_sd_ppm=pp.s_melt_inclusion_sd_ppm, s_mg_sd_ppm=pp.s_matrix_glass_sd_ppm,
-                                         density_kg_m3=pp.dense_density_kg_m3, density_sd=pp.dense_density_sd_kg_m3,
-                                         crystal_fraction=pp.crystal_fraction,
-                                         crystal_fraction_sd=pp.crystal_fraction_sd)
+    petro = b.project.petrology
     unc = b.aligned.frame.get("magma_uncertainty")
     b.budget = gas_budget(g, q, so2_uncertainty=b.aligned.frame["gas_uncertainty"], extrusion_uncertainty=unc,
                           segments=seg, petrology=petro, seed=b.project.seed)

@@ -57,22 +57,17 @@ import dataclasses
 from dataclasses import dataclass, field
 from pathlib import Path
 
+from degas.analysis.budget import PetrologyInputs
 from degas.errors import ConfigError
 from degas.io.mapping import load_toml
 
-
-@dataclass(frozen=True)
-class Petrology:
-    """Petrological inputs (ppm by mass, kg/m³, volume fraction) with 1-sigma uncertainties."""
-
-    s_melt_inclusion_ppm: float
-    s_matrix_glass_ppm: float
-    dense_density_kg_m3: float = 2600.0
-    crystal_fraction: float = 0.0
-    s_melt_inclusion_sd_ppm: float = 0.0
-    s_matrix_glass_sd_ppm: float = 0.0
-    dense_density_sd_kg_m3: float = 0.0
-    crystal_fraction_sd: float = 0.0
+#: [petrology] keys (ppm by mass, kg/m³, volume fraction, 1-sigma) -> PetrologyInputs.from_ppm arguments
+_PETROLOGY_KEYS = {
+    "s_melt_inclusion_ppm": "s_mi_ppm", "s_matrix_glass_ppm": "s_mg_ppm",
+    "s_melt_inclusion_sd_ppm": "s_mi_sd_ppm", "s_matrix_glass_sd_ppm": "s_mg_sd_ppm",
+    "dense_density_kg_m3": "density_kg_m3", "dense_density_sd_kg_m3": "density_sd",
+    "crystal_fraction": "crystal_fraction", "crystal_fraction_sd": "crystal_fraction_sd",
+}
 
 
 @dataclass(frozen=True)
@@ -102,7 +97,7 @@ class Project:
     magma_threshold: float | None = None
     ratio_low: float = 0.3
     ratio_high: float = 3.0
-    petrology: Petrology | None = None
+    petrology: PetrologyInputs | None = None
     window_days: int = 7
     baseline_days: int = 90
     lp_classes: tuple[str, ...] = ("LP", "hybrid")
@@ -181,14 +176,20 @@ def project_from_dict(raw: dict, where: str = "project") -> Project:
     if "lp_classes" in values:
         values["lp_classes"] = tuple(values["lp_classes"])
     if "petrology" in raw:
+        from degas.errors import DegasError
+
         p = raw["petrology"]
-        names = {f.name for f in dataclasses.fields(Petrology)}
-        bad = sorted(set(p) - names)
+        bad = sorted(set(p) - set(_PETROLOGY_KEYS))
         if bad:
-            raise ConfigError(f"{where}: unknown key(s) {bad} in [petrology]; valid: {', '.join(sorted(names))}")
+            valid = ", ".join(sorted(_PETROLOGY_KEYS))
+            raise ConfigError(f"{where}: unknown key(s) {bad} in [petrology]; valid: {valid}")
+        missing = [k for k in ("s_melt_inclusion_ppm", "s_matrix_glass_ppm") if k not in p]
+        if missing:
+            raise ConfigError(f"{where}: [petrology] needs {', '.join(missing)}")
         try:
-            values["petrology"] = Petrology(**{k: float(v) for k, v in p.items()})
-        except (TypeError, ValueError) as exc:
+            kw = {_PETROLOGY_KEYS[k]: float(v) for k, v in p.items()}
+            values["petrology"] = PetrologyInputs.from_ppm(kw.pop("s_mi_ppm"), kw.pop("s_mg_ppm"), **kw)
+        except (TypeError, ValueError, DegasError) as exc:
             raise ConfigError(f"{where}: [petrology]: {exc}") from None
     if "file" in raw:
         from degas.io.mapping import options_from_dict

@@ -11,7 +11,7 @@ from tests.conftest import REPO
 
 def test_demo_project_file_loads():
     p = load_project(REPO / "demo_series" / "velmarra.toml")
-    assert p.volcano == "Velmarra" and len(p.gas) == 2 and p.petrology.s_melt_inclusion_ppm == 1500
+    assert p.volcano == "Velmarra" and len(p.gas) == 2 and p.petrology.s_melt_inclusion == 1500e-6
     assert p.parameters()["window_days"] == 7
 
 
