@@ -9,6 +9,7 @@ Monday morning than no report.
 
 from __future__ import annotations
 
+import dataclasses
 import time
 import warnings
 from dataclasses import dataclass, field
@@ -37,7 +38,8 @@ class RunBundle:
     roles: dict[str, str | tuple[str, ...]]
     records: dict = field(default_factory=dict)  # name -> canonical record used (full data)
     archive: Archive | None = None
-    aligned: object | None = None  # AlignedTable on the analysis grid
+    aligned: object | None = None  # AlignedTable on the analysis grid, over the span of the run
+    aligned_full: object | None = None  # the same over the whole record up to the run's end (for regimes)
     changepoints: dict = field(default_factory=dict)  # name -> ChangePointResult
     regimes: object | None = None
     xcorr: object | None = None
@@ -71,6 +73,13 @@ def choose_roles(archive: Archive, project: Project) -> dict:
         if sid and sid not in ids:
             stored = ", ".join(sorted(ids))
             raise DegasError(f"project names series {sid!r}, which is not in the archive; stored: {stored}")
+    want = {"gas": ("gas_flux",), "magma": ("extrusion_rate", "erupted_volume", "chronology"),
+            "ratio": ("gas_ratio",), "catalog": ("seismic_catalog",)}
+    for role, kinds in want.items():
+        for sid in (project.gas if role == "gas" else (getattr(project, role),)):
+            if sid and archive.entry(sid).meta.kind not in kinds:
+                raise DegasError(f"project [series] {role} = {sid!r} is a {archive.entry(sid).meta.kind} series; "
+                                 f"{role} must be {' or '.join(kinds)}")
     gas = project.gas or tuple(e.series_id for e in _pick(entries, "gas_flux", "SO2")
                                if (e.meta.species or "").upper() == "SO2")
     magma = project.magma
@@ -118,15 +127,18 @@ def run_all(archive: Archive, project: Project, *, mode: str = "weekly", before:
         b.periods = review_periods(before, window_days=project.window_days, baseline_days=project.baseline_days)
         b.end = min(data_end, b.periods.window_end)
     else:
-        b.start = pd.Timestamp(start, tz="UTC") if start is not None and pd.Timestamp(start).tzinfo is None else (
-            pd.Timestamp(start) if start is not None else data_start)
-        b.end = pd.Timestamp(end, tz="UTC") if end is not None and pd.Timestamp(end).tzinfo is None else (
-            pd.Timestamp(end) if end is not None else data_end)
+        def utc(x):
+            t = pd.Timestamp(x)
+            return t.tz_localize("UTC") if t.tzinfo is None else t.tz_convert("UTC")
+
+        # the episode is [start, end): ``end`` is exclusive (the CLI passes the day after the last day)
+        b.start = utc(start) if start is not None else data_start
+        b.end = utc(end) if end is not None else data_end + pd.Timedelta(1, "ns")
         if b.end <= b.start:
             raise DegasError("the episode end must be after its start")
         # the review table of a retrospective covers the last days of the episode
-        b.periods = review_periods(b.end + pd.Timedelta(1, "ns") if b.end == b.end.floor("D") else b.end.ceil("D"),
-                                   window_days=project.window_days, baseline_days=project.baseline_days)
+        b.periods = review_periods(b.end.ceil("D"), window_days=project.window_days,
+                                   baseline_days=project.baseline_days)
 
     def step(name: str, fn) -> None:
         t0 = time.perf_counter()
@@ -168,7 +180,6 @@ def _clip(rec, start, end):
 
 
 def _align(archive: Archive, b: RunBundle) -> None:
-    from degas.align import align
     from degas.volumes import rates_from_cumulative
 
     recs = {}
@@ -188,33 +199,41 @@ def _align(archive: Archive, b: RunBundle) -> None:
         recs["catalog"] = archive.load(b.roles["catalog"])
     for sid in b.roles["amplitude"]:
         recs[sid] = archive.load(sid)
-    if b.mode == "retrospective":
-        recs = {k: _clip(r, b.start, b.end) for k, r in recs.items()}
-    else:  # a weekly review sees only what was known at the end of its window
-        recs = {k: _clip(r, b.start, b.periods.window_end - pd.Timedelta(1, "ns")) for k, r in recs.items()}
+    last = b.end - pd.Timedelta(1, "ns") if b.mode == "retrospective" else b.periods.window_end - pd.Timedelta(1, "ns")
+    # everything known up to the end of the run (a weekly review sees nothing after its window)
+    history = {k: _clip(r, pd.Timestamp.min.tz_localize("UTC"), last) for k, r in recs.items()}
+    recs = {k: _clip(r, b.start, last) for k, r in history.items()} if b.mode == "retrospective" else history
     b.records = recs
+    b.aligned = _aligned(b, recs, start=b.start if b.mode == "retrospective" else None,
+                         end=last if b.mode == "retrospective" else None)
+    b.aligned_full = _aligned(b, history) if b.mode == "retrospective" else b.aligned
+
+
+def _aligned(b: RunBundle, recs: dict, start=None, end=None):
+    """Align records and add the combined daily gas flux (mean of the stations available each bin)."""
+    from degas.align import align
+
     p = b.project
-    series_recs = {k: r for k, r in recs.items()}
-    b.aligned = align(series_recs, p.step, min_coverage=p.min_coverage,
-                      start=b.start if b.mode == "retrospective" else None,
-                      end=b.end if b.mode == "retrospective" else None)
+    table = align(recs, p.step, min_coverage=p.min_coverage, start=start, end=end)
     gas_cols = [sid for sid in b.roles["gas"]]
     if gas_cols:
-        f = b.aligned.frame
+        f = table.frame
         vals = f[gas_cols].to_numpy(dtype=float)
         with np.errstate(all="ignore"), warnings.catch_warnings():
             warnings.simplefilter("ignore", RuntimeWarning)  # days without any station: NaN, on purpose
             combined = np.nanmean(vals, axis=1) if vals.size else np.full(len(f), np.nan)
-        b.aligned.frame["gas"] = combined
+        table.frame["gas"] = combined
         unc = f[[f"{c}_uncertainty" for c in gas_cols]].to_numpy(dtype=float)
         n = np.sum(np.isfinite(vals), axis=1)
         with np.errstate(all="ignore"):
-            b.aligned.frame["gas_uncertainty"] = np.sqrt(np.nansum(unc**2, axis=1)) / np.where(n > 0, n, np.nan)
-        kinds = dict(b.aligned.kinds)
+            table.frame["gas_uncertainty"] = np.sqrt(np.nansum(unc**2, axis=1)) / np.where(n > 0, n, np.nan)
+        kinds = dict(table.kinds)
         kinds["gas"] = "gas_flux"
-        object.__setattr__(b.aligned, "kinds", kinds)
-        if len(gas_cols) > 1:
-            b.notes.append(f"gas flux: daily mean of the stations available each day ({', '.join(gas_cols)})")
+        object.__setattr__(table, "kinds", kinds)
+        note = f"gas flux: mean of the stations available in each bin ({', '.join(gas_cols)})"
+        if len(gas_cols) > 1 and note not in b.notes:
+            b.notes.append(note)
+    return table
 
 
 def _series(b: RunBundle, name: str) -> pd.Series:
@@ -226,23 +245,24 @@ def _changepoints(b: RunBundle) -> None:
 
     p = b.project
     kw = {"min_segment": p.min_segment, "max_gap": p.max_gap, "penalty": p.penalty}
+    al = b.aligned_full  # segments come from the whole history, so that a short episode keeps its context
     targets = {}
-    if "gas" in b.aligned.kinds:
-        targets["gas"] = (b.aligned.frame[["gas"]], {"gas": "log"})
-    if "magma" in b.aligned.kinds:
-        kind = b.aligned.kinds["magma"]
-        targets["magma"] = (b.aligned.frame[["magma"]], {"magma": "identity"})
+    if "gas" in al.kinds:
+        targets["gas"] = (al.frame[["gas"]], {"gas": "log"})
+    if "magma" in al.kinds:
+        kind = al.kinds["magma"]
+        targets["magma"] = (al.frame[["magma"]], {"magma": "identity"})
         if kind == "chronology":
             targets.pop("magma")
-    if "chronology" in b.aligned.kinds and "magma" not in targets:
-        targets["magma"] = (b.aligned.frame[["chronology"]].rename(columns={"chronology": "magma"}),
+    if "chronology" in al.kinds and "magma" not in targets:
+        targets["magma"] = (al.frame[["chronology"]].rename(columns={"chronology": "magma"}),
                             {"magma": "identity"})
-    if "ratio" in b.aligned.kinds:
-        targets["ratio"] = (b.aligned.frame[["ratio"]], {"ratio": "identity"})
-    if "catalog" in b.aligned.kinds:
-        cls = [c for c in p.lp_classes if f"catalog_{c}" in b.aligned.frame.columns]
+    if "ratio" in al.kinds:
+        targets["ratio"] = (al.frame[["ratio"]], {"ratio": "identity"})
+    if "catalog" in al.kinds:
+        cls = [c for c in p.lp_classes if f"catalog_{c}" in al.frame.columns]
         if cls:
-            lp = b.aligned.frame[[f"catalog_{c}" for c in cls]].sum(axis=1).to_frame("lp_hybrid_rate")
+            lp = al.frame[[f"catalog_{c}" for c in cls]].sum(axis=1).to_frame("lp_hybrid_rate")
             targets["lp_hybrid_rate"] = (lp, {"lp_hybrid_rate": "anscombe"})
     for name, (frame, transform) in targets.items():
         try:
@@ -260,10 +280,18 @@ def _regimes(b: RunBundle) -> None:
     measure = "eruptive_fraction" if b.aligned.kinds.get("magma", "chronology") == "chronology" else "extrusion_rate"
     # the expected gas per magma is the record's own (coupled intervals), not the petrological value: the
     # petrological method gives a minimum (Devine et al. 1984) and is reported separately in the budget
-    b.regimes = classify_regimes(segments_table(b.changepoints["gas"], "gas"),
-                                 segments_table(b.changepoints["magma"], "magma"), magma_measure=measure,
-                                 gas_factor=p.gas_factor, magma_threshold=p.magma_threshold, ratio_low=p.ratio_low,
-                                 ratio_high=p.ratio_high)
+    res = classify_regimes(segments_table(b.changepoints["gas"], "gas"),
+                           segments_table(b.changepoints["magma"], "magma"), magma_measure=measure,
+                           gas_factor=p.gas_factor, magma_threshold=p.magma_threshold, ratio_low=p.ratio_low,
+                           ratio_high=p.ratio_high)
+    if b.mode == "retrospective":  # labelled on the whole history, shown for the episode only
+        iv = res.intervals
+        iv = iv[(iv["end"] > b.start) & (iv["start"] < b.end)].copy()
+        iv["start"] = iv["start"].clip(lower=b.start)
+        iv["end"] = iv["end"].clip(upper=b.end)
+        iv["duration_days"] = (iv["end"] - iv["start"]) / pd.Timedelta("1D")
+        res = dataclasses.replace(res, intervals=iv.reset_index(drop=True))
+    b.regimes = res
 
 
 def _gas_magma(b: RunBundle) -> tuple[pd.Series, pd.Series]:
@@ -362,8 +390,8 @@ def _review(b: RunBundle) -> None:
     # every sampled series in the archive, not only those the coupling analysis uses
     used = {getattr(r.meta, "series_id", None): r for r in b.records.values()}
     for e in b.archive.entries() if b.archive is not None else []:
-        if e.record_type != "TimeSeries":
-            continue
+        if e.record_type != "TimeSeries" or e.meta.kind == "erupted_volume":
+            continue  # a cumulative volume has no "level" to compare; its rate is reviewed as extrusion
         rec = used.get(e.series_id)
         if rec is None or rec.meta.kind != e.meta.kind:
             rec = _clip(b.archive.load(e.series_id), per.baseline_start, per.window_end - pd.Timedelta(1, "ns"))
@@ -387,4 +415,4 @@ def _review(b: RunBundle) -> None:
             return None if hit.empty else hit["label"].iloc[0]
 
         b.review_regime["window"] = label_at(per.window_end - pd.Timedelta("1s"))
-        b.review_regime["previous"] = label_at(per.window_start - pd.Timedelta("1s"))
+        b.review_regime["previous"] = label_at(per.window_start - pd.Timedelta(days=per.window_days) / 2)

@@ -57,6 +57,8 @@ import dataclasses
 from dataclasses import dataclass, field
 from pathlib import Path
 
+import pandas as pd
+
 from degas.analysis.budget import PetrologyInputs
 from degas.errors import ConfigError
 from degas.io.mapping import load_toml
@@ -172,9 +174,37 @@ def project_from_dict(raw: dict, where: str = "project") -> Project:
             values[keys[k]] = v
     if "gas" in values:
         g = values["gas"]
-        values["gas"] = (g,) if isinstance(g, str) else tuple(g)
+        g = (g,) if isinstance(g, str) else g
+        if not isinstance(g, list | tuple) or not all(isinstance(x, str) for x in g):
+            raise ConfigError(f"{where}: [series] gas must be a series id or a list of them, got {values['gas']!r}")
+        values["gas"] = tuple(g)
     if "lp_classes" in values:
-        values["lp_classes"] = tuple(values["lp_classes"])
+        c = values["lp_classes"]
+        c = (c,) if isinstance(c, str) else c
+        from degas.model import EVENT_CLASSES
+
+        if not isinstance(c, list | tuple) or not set(c) <= set(EVENT_CLASSES):
+            raise ConfigError(f"{where}: [seismicity] lp_classes must list classes of {', '.join(EVENT_CLASSES)}")
+        values["lp_classes"] = tuple(c)
+    for k in ("step", "max_lag", "rolling_window", "rolling_step", "rolling_max_lag", "min_segment", "max_gap"):
+        if k in values:
+            try:
+                ok = pd.Timedelta(values[k]) > pd.Timedelta(0)
+            except (ValueError, TypeError):
+                ok = False
+            if not ok:
+                raise ConfigError(f"{where}: {k} = {values[k]!r} is not a positive duration such as '1D' or '6h'")
+    if values.get("variant", "raw") not in ("raw", "prewhitened", "differenced"):
+        raise ConfigError(f"{where}: variant must be raw, prewhitened or differenced, got {values['variant']!r}")
+    pen = values.get("penalty", "bic3")
+    if isinstance(pen, str) and pen not in ("bic3", "bic", "mbic"):
+        raise ConfigError(f"{where}: penalty must be bic3, bic, mbic or a number, got {pen!r}")
+    for k in ("surrogates", "bootstrap", "rolling_surrogates"):
+        if values.get(k, 0) < 0:
+            raise ConfigError(f"{where}: {k} must be 0 or more")
+    for k in ("window_days", "baseline_days", "b_window_events"):
+        if k in values and values[k] <= 0:
+            raise ConfigError(f"{where}: {k} must be positive")
     if "petrology" in raw:
         from degas.errors import DegasError
 

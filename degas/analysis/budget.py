@@ -126,13 +126,20 @@ class BudgetResult:
                          ignore_index=True)
 
 
-def _finding(excess: float, hi: float, lo: float) -> str:
+def _finding(excess: float, p_lo: float, p_hi: float, hi: float, lo: float, volume_m3: float = np.nan) -> str:
+    """A plain label for an excess factor, judged on its 95 % interval (p_lo, p_hi), not the central value."""
+    if np.isfinite(volume_m3) and volume_m3 <= 0:
+        return "gas without erupted volume (no magma output to compare with)"
     if not np.isfinite(excess):
         return ""
-    if excess > hi:
+    if np.isfinite(p_lo) and p_lo > hi:
         return "excess degassing (un-erupted magma / pre-existing vapour)"
-    if excess < lo:
+    if np.isfinite(p_lo) and p_lo > 1.0:
+        return "more SO2 than the erupted melt can supply"
+    if np.isfinite(p_hi) and p_hi < lo:
         return "gas deficit (sealing, scrubbing or measurement gaps)"
+    if np.isfinite(p_hi) and p_hi < 1.0:
+        return "less SO2 than the erupted melt can supply (gas retained or scrubbed?)"
     return "consistent with erupted magma"
 
 
@@ -258,7 +265,8 @@ def gas_budget(
                 excess_factor=central,
                 excess_p2_5=float(np.quantile(ex, 0.025)) if ex.size else np.nan,
                 excess_p97_5=float(np.quantile(ex, 0.975)) if ex.size else np.nan,
-                finding=_finding(central, excess_high, excess_low),
+                finding=_finding(central, float(np.quantile(ex, 0.025)) if ex.size else np.nan,
+                                 float(np.quantile(ex, 0.975)) if ex.size else np.nan, excess_high, excess_low, v),
             )
         return out
 

@@ -140,6 +140,9 @@ def formats() -> None:
         console.print(f"{f.name:28s} {', '.join(f.kinds)}", markup=False)
 
 
+DEMO_MARKER = ".degas-demo"
+
+
 def demo_source_dir() -> Path:
     """demo_series/ of the working directory or the repository; generated on the fly when missing."""
     for cand in (Path.cwd() / "demo_series", Path(__file__).resolve().parents[2] / "demo_series"):
@@ -155,10 +158,13 @@ def demo_source_dir() -> Path:
 def build_demo_archive(src: Path, archive_dir: Path) -> Archive:
     """A fresh archive from the demo files, with the per-file options of demo_ingest.toml."""
     if archive_dir.exists():
-        if (archive_dir / "manifest.json").exists():
-            shutil.rmtree(archive_dir)
+        if not archive_dir.is_dir():
+            raise DegasError(f"{archive_dir}: is a file, not a directory; choose another --archive")
+        if (archive_dir / DEMO_MARKER).exists():
+            shutil.rmtree(archive_dir)  # only an archive that an earlier demo built is rebuilt
         elif any(archive_dir.iterdir()):
-            raise DegasError(f"{archive_dir}: exists and is not a degas archive; choose another --archive")
+            raise DegasError(f"{archive_dir}: exists and was not built by 'degas demo'; it is left untouched "
+                             "(choose another --archive)")
     plan = load_toml(src / "demo_ingest.toml").get("file", [])
     items = []
     for i, entry in enumerate(plan):
@@ -167,6 +173,7 @@ def build_demo_archive(src: Path, archive_dir: Path) -> Archive:
         fmt = entry.pop("format", None)
         items.append((path, options_from_dict(entry, f"demo_ingest.toml file #{i + 1}"), fmt))
     archive = Archive.create(archive_dir)
+    (archive_dir / DEMO_MARKER).write_text("built by 'degas demo' from the invented demo series; safe to rebuild\n")
     ingest_files(archive, items, accept_conflicts=False, show_rejects=0)
     return archive
 

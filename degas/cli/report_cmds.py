@@ -4,6 +4,7 @@ from __future__ import annotations
 
 from pathlib import Path
 
+import numpy as np
 import pandas as pd
 import typer
 from rich import box
@@ -50,10 +51,15 @@ def _run(archive_dir: Path, project: Path | None, before: str | None, start: str
             t = pd.Timestamp(x)
         except ValueError:
             raise DegasError(f"cannot read the date {x!r}; use YYYY-MM-DD") from None
+        if pd.isna(t):
+            raise DegasError(f"cannot read the date {x!r}; use YYYY-MM-DD")
         return t.tz_localize("UTC") if t.tzinfo is None else t.tz_convert("UTC")
 
+    end_ts = _ts(end)
+    if end_ts is not None:
+        end_ts = end_ts.floor("D") + pd.Timedelta("1D")  # --end names the last day; the run's end is exclusive
     with err_console.status("running the analyses") as status:
-        bundle = run_all(archive, proj, mode=mode, before=_ts(before), start=_ts(start), end=_ts(end),
+        bundle = run_all(archive, proj, mode=mode, before=_ts(before), start=_ts(start), end=end_ts,
                          progress=lambda name: status.update(f"running: {name}"))
     return bundle
 
@@ -83,10 +89,15 @@ def weekly(
     for c in ("series", "unit", "week", "baseline", "ratio (95 %)", "robust z", "trend/day", "MK p", "coverage"):
         t.add_column(c, no_wrap=True)
     rows = [r.to_row() for r in bundle.review]
+    def f(x, spec: str) -> str:
+        return "-" if x is None or not np.isfinite(x) else format(x, spec)
+
     for r in rows:
-        t.add_row(r["series"], r["unit"], f"{r['level_window']:.3g}", f"{r['level_baseline']:.3g}",
-                  f"{r['ratio']:.2f} ({r['ratio_low']:.2f}-{r['ratio_high']:.2f})", f"{r['robust_z']:.2f}",
-                  f"{r['trend_per_day']:+.3g}", f"{r['mann_kendall_p']:.2f}", f"{r['coverage_window']:.0%}")
+        ratio = "-" if not np.isfinite(r["ratio"]) else (f"{r['ratio']:.2f} ({f(r['ratio_low'], '.2f')}-"
+                                                          f"{f(r['ratio_high'], '.2f')})")
+        t.add_row(r["series"], r["unit"], f(r["level_window"], ".3g"), f(r["level_baseline"], ".3g"), ratio,
+                  f(r["robust_z"], ".2f"), f(r["trend_per_day"], "+.3g"), f(r["mann_kendall_p"], ".2f"),
+                  f(r["coverage_window"], ".0%"))
     Console(width=max(console.width, 150), highlight=False).print(t)
     print_summary(bundle)
     if csv is not None:

@@ -23,7 +23,12 @@ from degas.units import KG_S_TO_T_D
 
 DAY = pd.Timedelta("1D")
 #: display unit of the levels in the change-point and segment tables, per analysed series
-CHANGE_UNITS = {"gas": "t/d", "magma": "m³/s DRE", "ratio": "mol/mol", "lp_hybrid_rate": "events per bin"}
+CHANGE_UNITS = {"gas": "t/d", "ratio": "mol/mol", "lp_hybrid_rate": "events per bin"}
+
+
+def last_day(bundle) -> pd.Timestamp:
+    """The last instant the run covers (its end is exclusive)."""
+    return bundle.end - pd.Timedelta(1, "ns")
 
 
 def report_name(bundle) -> str:
@@ -32,7 +37,7 @@ def report_name(bundle) -> str:
     if bundle.mode == "weekly":
         span = f"week-{bundle.periods.window_start:%Y%m%d}-{(bundle.periods.window_end - DAY):%Y%m%d}"
     else:
-        span = f"episode-{bundle.start:%Y%m%d}-{bundle.end:%Y%m%d}"
+        span = f"episode-{bundle.start:%Y%m%d}-{last_day(bundle):%Y%m%d}"
     return f"degas-{vol}-{span}-run{pd.Timestamp(bundle.run_time):%Y%m%d}.html"
 
 
@@ -49,6 +54,8 @@ def tables(bundle) -> dict[str, pd.DataFrame]:
             seg["level"] = seg["level"] * KG_S_TO_T_D
             seg["spread"] = seg["spread"] * KG_S_TO_T_D
         unit = CHANGE_UNITS.get(name, "")
+        if name == "magma":
+            unit = "m³/s DRE" if bundle.aligned.kinds.get("magma") == "extrusion_rate" else "eruptive fraction"
         cps.append(ch.assign(unit=unit))
         segs.append(seg.assign(unit=unit))
     if cps:
@@ -114,7 +121,7 @@ def _methods(bundle) -> str:
     lines = [
         f"<p>degas {esc(degas.__version__)}; run at {esc(bundle.run_time)} UTC on archive "
         f"<code>{esc(bundle.archive_root)}</code>; mode {esc(bundle.mode)}; data {esc(f'{bundle.start:%Y-%m-%d}')} to "
-        f"{esc(f'{bundle.end:%Y-%m-%d}')}.</p>",
+        f"{esc(f'{last_day(bundle):%Y-%m-%d}')} (last day included).</p>",
         "<p>Internally every value is SI (gas flux kg/s, extrusion m³/s DRE) and every time UTC; the report shows t/d "
         "and m³/s. Positive lags mean gas leads magma output. Change points: exact penalised least-squares "
         "segmentation (Killick, Fearnhead &amp; Eckley 2012 optimum) on log SO2, on extrusion rate and on "
@@ -154,7 +161,7 @@ def render_report(bundle) -> tuple[str, dict]:
         sub = (f"Weekly review {per.window_start:%Y-%m-%d} to {(per.window_end - DAY):%Y-%m-%d} against the "
                f"{per.baseline_days:.0f} days before")
     else:
-        sub = f"Retrospective of {bundle.start:%Y-%m-%d} to {bundle.end:%Y-%m-%d}"
+        sub = f"Retrospective of {bundle.start:%Y-%m-%d} to {last_day(bundle):%Y-%m-%d}"
     obs = f" · {bundle.project.observatory}" if bundle.project.observatory else ""
     page = Page(title=f"{bundle.project.volcano}: is gas tracking magma output?", subtitle=sub + obs)
     sentences = summarise(bundle)
@@ -174,10 +181,11 @@ def render_report(bundle) -> tuple[str, dict]:
     tabs = tables(bundle)
     if "regimes" in tabs:
         r = tabs["regimes"]
-        shown = pd.DataFrame({"start": r["start"], "end": r["end"], "days": r["duration_days"], "label": r["label"],
-                              "SO2 (t/d)": r["gas_t_d"], "× baseline": r["gas_to_baseline"],
-                              "magma output": r["magma_level"], "gas per magma vs expected": r["ratio_vs_expected"],
-                              "evidence": r["evidence"]})
+        munit = "m³/s DRE" if bundle.regimes.magma_measure == "extrusion_rate" else "eruptive fraction"
+        shown = pd.DataFrame({"start": r["start"], "end (exclusive)": r["end"], "days": r["duration_days"],
+                              "label": r["label"], "SO2 (t/d)": r["gas_t_d"],
+                              "× passive level": r["gas_to_baseline"], f"magma output ({munit})": r["magma_level"],
+                              "gas per magma vs coupled": r["ratio_vs_expected"], "evidence": r["evidence"]})
         sections.setdefault("series", ("Monitoring series", []))[1].append(
             "<h3>Regime intervals</h3>" + table_html(shown)
             + '<p class="caption">Every column, with the thresholds used, is in the appendix file regimes.csv.</p>')
@@ -190,7 +198,7 @@ def render_report(bundle) -> tuple[str, dict]:
                                   + table_html(bundle.granger.to_frame()))
     if "budget" in tabs:
         bt = tabs["budget"]
-        shown = pd.DataFrame({"start": bt["start"], "end": bt["end"], "days": bt["duration_days"],
+        shown = pd.DataFrame({"start": bt["start"], "end (exclusive)": bt["end"], "days": bt["duration_days"],
                               "SO2 (kt)": bt["so2_mass_kg"] / 1e6,
                               "± kt (independent / correlated errors)": [
                                   f"{a / 1e6:.3g} / {c / 1e6:.3g}" for a, c in
@@ -211,7 +219,9 @@ def render_report(bundle) -> tuple[str, dict]:
         page.add(sid, heading, "".join(parts))
     rev = []
     if "weekly_review" in tabs:
-        rev.append(table_html(tabs["weekly_review"].drop(columns=["notes"])))
+        wr = tabs["weekly_review"].drop(columns=["notes"])
+        wr["window_end"] = wr["window_end"] - DAY
+        rev.append(table_html(wr.rename(columns={"window_end": "window_last_day"})))
     if "weekly_event_rates" in tabs:
         rev.append("<h3>Event rates, week against baseline</h3>" + table_html(tabs["weekly_event_rates"]))
     if rev:
@@ -221,21 +231,33 @@ def render_report(bundle) -> tuple[str, dict]:
              "<ul>" + "".join(f"<li>{esc(n)}</li>" for n in notes) + "</ul>")
     page.add("methods", "Methods and provenance", _methods(bundle))
     gaps = [s.text for s in sentences if s.key.startswith("gap:") or s.key == "skipped"]
-    html = page.render(cautions_extra=gaps)
+    digest = [
+        f"{len(bundle.assumptions)} assumption(s) were made when the data were read (listed under Methods), e.g.: "
+        + "; ".join(bundle.assumptions[:2]) + "." if bundle.assumptions else "",
+        "Regime labels and thresholds are this project's defaults, judged against the record's own coupled "
+        "intervals; the petrological SO2 is a minimum estimate (Devine et al. 1984); missing days count as zero in "
+        "the mass totals, which are therefore lower bounds.",
+    ]
+    html = page.render(cautions_extra=gaps + [d for d in digest if d])
     return html, figs
 
 
 def write_report(bundle, out_dir: str | Path = "reports", appendix: str | Path | None = None) -> Path:
     """Write the report (and optionally the appendix) and return the report's path."""
+    from degas.errors import DegasError
+
     out_dir = Path(out_dir)
-    out_dir.mkdir(parents=True, exist_ok=True)
     html, figs = render_report(bundle)
     path = out_dir / report_name(bundle)
-    tmp = path.with_name(path.name + ".tmp")
-    tmp.write_text(html, encoding="utf-8")
-    tmp.replace(path)
-    if appendix is not None:
-        write_appendix(bundle, Path(appendix), figs)
+    try:
+        out_dir.mkdir(parents=True, exist_ok=True)
+        tmp = path.with_name(path.name + ".tmp")
+        tmp.write_text(html, encoding="utf-8")
+        tmp.replace(path)
+        if appendix is not None:
+            write_appendix(bundle, Path(appendix), figs)
+    except OSError as exc:
+        raise DegasError(f"cannot write the report: {exc.strerror or exc}: {exc.filename or out_dir}") from None
     return path
 
 

@@ -11,7 +11,7 @@ import plotly.graph_objects as go
 from plotly.subplots import make_subplots
 
 from degas.report.decimate import gaps_as_breaks, minmax_decimate
-from degas.report.html import REGIME_COLOURS, REGIME_LABELS
+from degas.report.html import REGIME_COLOURS, REGIME_LABELS, esc
 from degas.units import KG_S_TO_T_D
 
 STATION_COLOURS = ("#1f5f8b", "#c0612b", "#6b8e23", "#7d4e9e", "#2f8f8f", "#9e4e4e")
@@ -71,7 +71,7 @@ def overview_figure(bundle) -> go.Figure:
         rows.append(("events", "events per day"))
         rows.append(("energy", "cum. energy (J)"))
     for sid in bundle.roles["amplitude"]:
-        rows.append((sid, f"{recs[sid].meta.quantity} ({recs[sid].meta.unit or ''})"))
+        rows.append((sid, esc(f"{recs[sid].meta.quantity} ({recs[sid].meta.unit or ''})")))
     if not rows:
         return go.Figure()
     fig = make_subplots(rows=len(rows), cols=1, shared_xaxes=True, vertical_spacing=0.025,
@@ -83,7 +83,8 @@ def overview_figure(bundle) -> go.Figure:
                 x, y = _points(rec.data["time"], rec.data["value"].to_numpy() * KG_S_TO_T_D)
                 fig.add_trace(go.Scattergl(x=x, y=y, mode="markers", marker=dict(size=2, opacity=0.35,
                                                                                 color=STATION_COLOURS[j % 6]),
-                                           name=f"{rec.meta.station or sid} scans", legendgroup="gas"), row=i, col=1)
+                                           name=esc(f"{rec.meta.station or sid} scans"), legendgroup="gas"),
+                              row=i, col=1)
             if al is not None and "gas" in al.frame:
                 fig.add_trace(go.Scatter(x=al.frame.index, y=al.frame["gas"] * KG_S_TO_T_D, mode="lines",
                                          line=dict(color="#10232e", width=1.6), name="SO2 daily mean",
@@ -135,7 +136,7 @@ def overview_figure(bundle) -> go.Figure:
         else:
             rec = recs[key]
             x, y = _points(rec.data["time"], rec.data["value"].to_numpy())
-            fig.add_trace(go.Scatter(x=x, y=y, mode="lines", line=dict(color="#2f8f8f", width=1), name=key),
+            fig.add_trace(go.Scatter(x=x, y=y, mode="lines", line=dict(color="#2f8f8f", width=1), name=esc(key)),
                           row=i, col=1)
     _shade_regimes(fig, bundle.regimes, len(rows))
     fig.update_layout(**LAYOUT, height=190 * len(rows) + 120, hovermode="x unified",

@@ -53,8 +53,14 @@ def lag_sentence(key: str, res, where: str) -> Sentence:
     ci = "" if res.lag_ci is None else (f" ({res.ci_level:.0%} interval {res.lag_ci[0] / DAY:+.0f} to "
                                         f"{res.lag_ci[1] / DAY:+.0f} d)")
     where = where.replace(" to ", " until ") if where.startswith("Coupled") else where
-    lead = "gas leads magma output" if res.best_lag > pd.Timedelta(0) else (
-        "gas lags magma output" if res.best_lag < pd.Timedelta(0) else "no lag")
+    significant = np.isfinite(res.p_value) and res.p_value < 0.05
+    excludes_zero = res.lag_ci is not None and (res.lag_ci[0] > pd.Timedelta(0) or res.lag_ci[1] < pd.Timedelta(0))
+    if not significant:
+        lead = "no coupling shown against surrogates (p ≥ 0.05)"
+    elif not excludes_zero:
+        lead = "no clear lead either way (the interval includes 0)"
+    else:
+        lead = "gas leads magma output" if res.best_lag > pd.Timedelta(0) else "gas lags magma output"
     return Sentence(key, f"{where}: best lag {res.best_lag / DAY:+.0f} d{ci}, {lead}; peak r = {res.peak_r:.2f}, "
                          f"surrogate p {_p(res.p_value)} ({res.n_surrogates} {res.surrogate_method} surrogates).")
 
@@ -65,6 +71,7 @@ def regime_sentences(bundle) -> list[Sentence]:
     if bundle.regimes is None:
         return out
     iv = bundle.regimes.intervals
+    munit = "m³/s DRE" if bundle.regimes.magma_measure == "extrusion_rate" else "(eruptive fraction)"
     lp = bundle.changepoints.get("lp_hybrid_rate")
     for label, key in (("gas_only", "decoupled"), ("magma_only", "sealing")):
         for r in iv[iv["label"] == label].itertuples():
@@ -73,19 +80,23 @@ def regime_sentences(bundle) -> list[Sentence]:
             if label == "gas_only":
                 what = (f"Gas without magma output (decoupled degassing) from {_d(r.start)} until {_d(r.end)} "
                         f"({r.duration_days:.0f} days): SO2 {_num(r.gas_t_d)} t/d, {r.gas_to_baseline:.1f}× the "
-                        f"baseline, while magma output was {r.magma_level:.2g}.")
+                        f"passive-degassing level (the lowest gas segment), while magma output was "
+                        f"{r.magma_level:.2g} {munit}.")
             else:
+                if not np.isfinite(r.ratio_vs_expected):
+                    continue  # without a reference gas-per-magma ratio the label is not supported: no sentence
                 what = (f"Magma output without matching gas (gas-poor output, possible sealing) from {_d(r.start)} "
-                        f"until {_d(r.end)} ({r.duration_days:.0f} days): extrusion {r.magma_level:.2g} m³/s DRE "
-                        f"with SO2 {_num(r.gas_t_d)} t/d, {_num(r.ratio_vs_expected, 2)}× the gas expected per "
-                        "magma.")
+                        f"until {_d(r.end)} ({r.duration_days:.0f} days): magma output {r.magma_level:.2g} {munit} "
+                        f"with SO2 {_num(r.gas_t_d)} t/d, {_num(r.ratio_vs_expected, 2)}× the gas per magma of the "
+                        "coupled intervals.")
                 if lp is not None:
                     near = lp.changes[(lp.changes["time"] >= r.start - pd.Timedelta("21D"))
                                       & (lp.changes["time"] <= r.end)]
                     if len(near):
                         first, last = near.iloc[0], near.iloc[-1]
                         per = "day" if pd.Timedelta(bundle.project.step) == DAY else f"{bundle.project.step} bin"
-                        what += (f" LP + hybrid events rose from {first['level_before']:.1f} to "
+                        verb = "rose" if last["level_after"] > first["level_before"] else "changed"
+                        what += (f" LP + hybrid events {verb} from {first['level_before']:.1f} to "
                                  f"{last['level_after']:.1f} per {per}, in {len(near)} step(s) from "
                                  f"{_d(first['time'])} (95% range {_d(first['ci_start'])} to "
                                  f"{_d(first['ci_end'])}).")
@@ -105,16 +116,17 @@ def summarise(bundle) -> list[Sentence]:
                                                  f"{REGIME_LABELS.get(now, now)} ({change} the week before)."))
     out += regime_sentences(bundle)
     for r in bundle.review:
-        if r.kind not in ("gas_flux", "extrusion_rate") or not np.isfinite(r.level_window):
+        if r.kind not in ("gas_flux", "extrusion_rate", "gas_ratio", "amplitude") or not np.isfinite(r.level_window):
             continue
         name = f"{_name(r.quantity)} at {r.station}" if r.station else _name(r.quantity)
         tr = ""
         if r.trend is not None:
             tr = (f"; trend {r.trend.slope_per_day:+.3g} {r.display_unit}/day (95% {r.trend.slope_low:+.3g} to "
-                  f"{r.trend.slope_high:+.3g}), Mann-Kendall p = {r.trend.mann_kendall.p_value:.2f}")
+                  f"{r.trend.slope_high:+.3g}), Mann-Kendall p {_p(r.trend.mann_kendall.p_value)}")
         out.append(Sentence(f"level:{r.series_id}",
                             f"{name}: median {_num(r.level_window)} {r.display_unit} in the week, "
-                            f"{_num(r.ratio, 2)}× the {r.days_baseline}-day baseline of {_num(r.level_baseline)} "
+                            f"{_num(r.ratio, 2)}× the {r.periods.baseline_days:.0f}-day baseline of "
+                            f"{_num(r.level_baseline)} ({r.days_baseline} days with data) "
                             f"(95% {_num(r.ratio_low, 2)} to {_num(r.ratio_high, 2)}), robust z = "
                             f"{_num(r.robust_z, 2)}{tr}; coverage {r.coverage_window:.0%}."))
     for rc in bundle.review_events:
@@ -128,18 +140,24 @@ def summarise(bundle) -> list[Sentence]:
         out.append(Sentence("b:window", f"b-value {bw.b:.2f} ± {bw.sigma:.2f} ({bw.n} events above Mc {bw.mc:.1f}) in "
                                         f"the week vs {bb.b:.2f} ± {bb.sigma:.2f} in the baseline."))
     if bundle.xcorr is not None:
-        out.append(lag_sentence("lag:record", bundle.xcorr, "Whole record, SO2 against magma output"))
+        span = ("Whole record" if bundle.mode == "weekly" else
+                f"Episode {_d(bundle.start)} to {_d(bundle.end - pd.Timedelta(1, 'ns'))}")
+        out.append(lag_sentence("lag:record", bundle.xcorr, f"{span}, SO2 against magma output"))
     for s, e, _label, res in bundle.xcorr_intervals:
         out.append(lag_sentence(f"lag:{_d(s)}", res, f"Coupled interval {_d(s)} to {_d(e)}"))
     if bundle.budget is not None:
         o = bundle.budget.overall
         if np.isfinite(o.get("excess_factor", np.nan)):
-            out.append(Sentence("budget:overall",
-                                f"Gas budget {_d(o['start'])} until {_d(o['end'])}: "
-                                f"{_num(o['so2_mass_kg'] / 1e6)} kt SO2 for "
-                                f"{o['dre_volume_m3'] / 1e6:.3g} Mm³ DRE ({o['ratio_kg_per_m3']:.3g} ± "
-                                f"{o['ratio_sd_kg_per_m3']:.2g} kg SO2 per m³); observed/petrological SO2 = "
-                                f"{o['excess_factor']:.2f} (95% {o['excess_p2_5']:.2f} to {o['excess_p97_5']:.2f})."))
+            al = bundle.aligned.frame
+            both = int((al["gas"].notna() & al["magma"].notna()).sum()) if "magma" in al else 0
+            out.append(Sentence(
+                "budget:overall",
+                f"Gas budget {_d(o['start'])} until {_d(o['end'])}: {_num(o['so2_mass_kg'] / 1e6)} ± "
+                f"{_num(o['so2_mass_sd_correlated_kg'] / 1e6, 2)} kt SO2 (1σ, errors fully correlated; lower bound, "
+                f"gas coverage {o['gas_coverage']:.0%}) and {o['dre_volume_m3'] / 1e6:.3g} Mm³ DRE erupted; on the "
+                f"{both} days with both, {o['ratio_kg_per_m3']:.3g} ± {o['ratio_sd_kg_per_m3']:.2g} (1σ) kg SO2 per "
+                f"m³ DRE; observed/petrological SO2 = {o['excess_factor']:.2f} (95% {o['excess_p2_5']:.2f} to "
+                f"{o['excess_p97_5']:.2f}): {o['finding'] or 'no finding'}."))
     for name, cp in bundle.changepoints.items():
         if per is None:
             continue

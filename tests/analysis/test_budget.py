@@ -57,7 +57,8 @@ def test_budget_segments_and_excess_factor():
     assert s.ratio_kg_per_m3.iloc[0] == pytest.approx((3000 / T_D) / 3.0)
     assert s.excess_factor.iloc[0] == pytest.approx(2.8563, abs=1e-3)  # REFERENCES §1.2 [D]
     assert s.excess_p2_5.iloc[0] < 2.8563 < s.excess_p97_5.iloc[0]
-    assert s.finding.iloc[0] == "consistent with erupted magma"
+    # 2.86 with its whole 95 % interval above 1 (exact petrology, 10 % flux errors): more gas than the melt holds
+    assert s.finding.iloc[0] == "more SO2 than the erupted melt can supply"
     assert res.overall["so2_mass_kg"] == pytest.approx(20 * day * 3000 / T_D)
     assert res.cumulative["so2_cum_kg"].iloc[-1] == pytest.approx(res.overall["so2_mass_kg"])
     assert len(res.to_frame()) == 3
@@ -108,3 +109,13 @@ def test_co2_flux_from_ratio_with_max_gap():
     assert any("more than 7 days" in n for n in res.notes)
     with pytest.raises(NotEnoughDataError):
         co2_flux(so2, pd.Series([np.nan], index=idx[:1]))
+
+
+def test_findings_follow_the_interval_not_the_central_value():
+    from degas.analysis.budget import _finding
+
+    assert _finding(0.52, 0.39, 0.73, 3.0, 0.5) == "less SO2 than the erupted melt can supply (gas retained or scrubbed?)"
+    assert _finding(0.3, 0.2, 0.45, 3.0, 0.5).startswith("gas deficit")
+    assert _finding(1.1, 0.84, 1.55, 3.0, 0.5) == "consistent with erupted magma"
+    assert _finding(9.0, 4.0, 20.0, 3.0, 0.5).startswith("excess degassing")
+    assert _finding(float("nan"), float("nan"), float("nan"), 3.0, 0.5, 0.0).startswith("gas without erupted volume")

@@ -136,9 +136,14 @@ def test_every_number_in_the_other_sentences_comes_from_its_result(demo_bundle):
 
     s = _sentences(demo_bundle)
     o = demo_bundle.budget.overall
+    cum = demo_bundle.budget.cumulative
     text = s["budget:overall"]
-    assert f"{_num(o['so2_mass_kg'] / 1e6)} kt SO2" in text  # kg -> kt: ÷ 1e6
-    assert f"{o['dre_volume_m3'] / 1e6:.3g} Mm³ DRE" in text  # m³ -> Mm³: ÷ 1e6
+    kt, sd = (float(x.replace(",", "")) for x in re.search(r"([\d,.]+) ± ([\d,.]+) kt SO2", text).groups())
+    assert kt == pytest.approx(cum["so2_cum_kg"].iloc[-1] / 1e6, rel=1e-3)  # kg -> kt: ÷ 1e6
+    assert sd == pytest.approx(o["so2_mass_sd_correlated_kg"] / 1e6, rel=0.01) and "1σ" in text
+    mm3 = float(re.search(r"and ([\d.]+) Mm³ DRE", text).group(1))
+    assert mm3 == pytest.approx(cum["dre_cum_m3"].iloc[-1] / 1e6, rel=1e-2)  # m³ -> Mm³: ÷ 1e6
+    assert "lower bound" in text and f"gas coverage {o['gas_coverage']:.0%}" in text
     assert f"= {o['excess_factor']:.2f} (95% {o['excess_p2_5']:.2f} to {o['excess_p97_5']:.2f})" in text
     rev = next(r for r in demo_bundle.review if r.series_id == "gas_flux.so2_flux.VLM-N")
     text = s["level:gas_flux.so2_flux.VLM-N"]
@@ -164,6 +169,11 @@ def test_retrospective_inside_the_record_keeps_phases_that_began_earlier(demo_ar
                 end=pd.Timestamp("2024-11-30", tz="UTC"))
     frac = b.aligned.frame["chronology"]
     assert frac.notna().all() and (frac == 1.0).all()
+    # labelled from the whole history, then clipped: the episode is the coupled phase of the truth, and no
+    # "possible sealing" is claimed for it
+    assert set(b.regimes.intervals["label"]) == {"coupled"}
+    assert b.regimes.intervals["start"].min() == pd.Timestamp("2024-09-01", tz="UTC")
+    assert not any(k.startswith("sealing") for k in _sentences(b))
     full = demo_bundle.aligned.frame.loc[b.aligned.frame.index, "magma"]
     pd.testing.assert_series_equal(b.aligned.frame["magma"], full)  # clipping lost no camera day
 
