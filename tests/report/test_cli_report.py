@@ -28,8 +28,8 @@ def test_report_weekly_with_appendix(demo_archive, tmp_path, capsys):
               str(tmp_path), "--appendix", str(tmp_path / "app")])
     out = capsys.readouterr().out
     assert rc == 0
-    path = tmp_path / "degas-velmarra-week-20250303-20250309-run" f"{pd.Timestamp.now(tz='UTC'):%Y%m%d}.html"
-    assert path.exists() and f"report: {path}" in out
+    (path,) = tmp_path.glob("degas-velmarra-week-20250303-20250309-run*.html")  # run date: today (no midnight race)
+    assert f"report: {path}" in out
     assert (tmp_path / "app" / "weekly_review.csv").exists()
 
 
@@ -71,3 +71,48 @@ def test_project_files_are_ingested_before_the_run(tmp_path, capsys):
     bad.write_text('[[file]]\npath = "so2.csv"\nstaton = "x"\n')
     assert run(["weekly", str(arc), "--project", str(bad)]) == 2
     assert "unknown option(s) ['staton']" in capsys.readouterr().err
+
+
+def test_demo_never_deletes_an_archive_it_did_not_build(tmp_path, capsys):
+    from degas.io.base import ReadOptions
+    from degas.store import Archive
+
+    real = tmp_path / "real"
+    f = tmp_path / "so2.csv"
+    f.write_text("time,SO2 flux (t/d)\n2024-01-01T00:00Z,100\n")
+    Archive.create(real).ingest_file(f, ReadOptions(station="TB-1"))
+    assert run(["demo", "--archive", str(real), "--out", str(tmp_path / "o")]) == 2
+    assert "was not built by 'degas demo'" in capsys.readouterr().err
+    assert [e.series_id for e in Archive.open(real).entries()] == ["gas_flux.so2_flux.TB-1"]
+
+
+def test_more_user_mistakes_are_one_line_errors(demo_archive, tmp_path, capsys):
+    not_a_dir = tmp_path / "file.txt"
+    not_a_dir.write_text("x")
+    cases = [
+        (["report", str(demo_archive.root), "--before", "2025-03-10", "--out", str(not_a_dir)], "cannot write"),
+        (["weekly", str(demo_archive.root), "--before", ""], "cannot read the date"),
+    ]
+    bad = tmp_path / "p.toml"
+    bad.write_text('[series]\ncatalog = "gas_flux.so2_flux.VLM-N"\n')
+    cases.append((["weekly", str(demo_archive.root), "--project", str(bad)], "must be seismic_catalog"))
+    bad2 = tmp_path / "p2.toml"
+    bad2.write_text('[analysis]\nmax_lag = "xx"\n')
+    cases.append((["weekly", str(demo_archive.root), "--project", str(bad2)], "not a positive duration"))
+    for argv, fragment in cases:
+        assert run(argv) == 2, argv
+        err = capsys.readouterr().err
+        assert fragment in err and "Traceback" not in err, (argv, err)
+
+
+def test_a_thin_archive_gives_a_report_that_says_what_it_could_not_do(tmp_path, capsys):
+    rows = "".join(f"2024-01-{d:02d}T12:00Z,{100 + 3 * d}\n" for d in range(1, 22))
+    f = tmp_path / "so2.csv"
+    f.write_text("time,SO2 flux (t/d)\n" + rows)
+    arc = tmp_path / "arc"
+    assert run(["ingest", str(f), "--into", str(arc), "--station", "<b>X&Y</b>"]) == 0
+    assert run(["report", str(arc), "--out", str(tmp_path / "out")]) == 0
+    (path,) = (tmp_path / "out").glob("*.html")
+    html = path.read_text()
+    assert "not run" in html and "nan" not in html.split('<section id="summary">')[1].split("</section>")[0]
+    assert "<b>X&Y</b>" not in html  # not in the page text nor in the plotly legend (escaped)
