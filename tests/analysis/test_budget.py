@@ -114,7 +114,7 @@ def test_co2_flux_from_ratio_with_max_gap():
 def test_findings_follow_the_interval_not_the_central_value():
     from degas.analysis.budget import _finding
 
-    assert _finding(0.52, 0.39, 0.73, 3.0, 0.5) == "less SO2 than the erupted melt can supply (gas retained or scrubbed?)"
+    assert _finding(0.52, 0.39, 0.73, 3.0, 0.5).startswith("less SO2 than the erupted melt can supply")
     assert _finding(0.3, 0.2, 0.45, 3.0, 0.5).startswith("gas deficit")
     assert _finding(1.1, 0.84, 1.55, 3.0, 0.5) == "consistent with erupted magma"
     assert _finding(9.0, 4.0, 20.0, 3.0, 0.5).startswith("excess degassing")
