@@ -414,5 +414,5 @@ def _review(b: RunBundle) -> None:
             hit = iv[(iv["start"] <= ts) & (iv["end"] > ts)]
             return None if hit.empty else hit["label"].iloc[0]
 
-        b.review_regime["window"] = label_at(per.window_end - pd.Timedelta("1s"))
+        b.review_regime["window"] = label_at(min(per.window_end, b.end) - pd.Timedelta("1s"))
         b.review_regime["previous"] = label_at(per.window_start - pd.Timedelta(days=per.window_days) / 2)
