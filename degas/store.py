@@ -315,8 +315,9 @@ class Archive:
             gen = self._manifest["generation"] + 1
             staged: dict[str, dict] = {}
             conflict_rows: list[tuple] = []
-            for rec in result.records:
-                o = self._stage(rec, gen, staged, accept_conflicts)
+            for i, rec in enumerate(result.records):
+                lines = result.lines[i] if i < len(result.lines) else None
+                o = self._stage(rec, gen, staged, accept_conflicts, lines)
                 report.outcomes.append(o)
                 conflict_rows.extend(o.conflict_rows)
             rejects = result.rejects
@@ -337,7 +338,8 @@ class Archive:
             self._commit(gen, staged, {sha: source})
         return report
 
-    def _stage(self, record: Record, gen: int, staged: dict, accept_conflicts: bool) -> AddOutcome:
+    def _stage(self, record: Record, gen: int, staged: dict, accept_conflicts: bool,
+               lines: np.ndarray | None = None) -> AddOutcome:
         """Merge a record with the stored (or already staged) rows and write a new generation file."""
         import pyarrow as pa
         import pyarrow.parquet as pq
@@ -351,7 +353,7 @@ class Archive:
             if prev_entry["record_type"] != rtype:
                 raise ArchiveError(f"series {sid} holds {prev_entry['record_type']}, cannot add {rtype}")
             old = conform(pq.read_table(self.root / prev_entry["file"]).to_pandas(), rtype)
-            merged, outcome = _merge(old, new, rtype, sid, accept_conflicts, record)
+            merged, outcome = _merge(old, new, rtype, sid, accept_conflicts, record, lines)
             provenance = [Provenance.from_dict(p) for p in prev_entry["provenance"]] + list(record.provenance)
             meta = SeriesMeta.from_dict(prev_entry["meta"])
             if meta.volume_basis != record.meta.volume_basis and len(new):
@@ -397,8 +399,8 @@ class Archive:
                 (self.root / f).unlink()
 
 
-def _merge(old: pd.DataFrame, new: pd.DataFrame, rtype: str, sid: str, accept: bool, record: Record
-           ) -> tuple[pd.DataFrame, AddOutcome]:
+def _merge(old: pd.DataFrame, new: pd.DataFrame, rtype: str, sid: str, accept: bool, record: Record,
+           lines: np.ndarray | None = None) -> tuple[pd.DataFrame, AddOutcome]:
     keys = _KEYS[rtype]
     comp = _COMPARE[rtype]
     outcome = AddOutcome(sid)
@@ -428,7 +430,6 @@ def _merge(old: pd.DataFrame, new: pd.DataFrame, rtype: str, sid: str, accept: b
             old = old.loc[keep_old]
         else:
             outcome.conflicts = int(conflict.sum())
-            lines = record.data.attrs.get("source_lines")
             for i in np.flatnonzero(conflict):
                 stored = old[comp[0]].iloc[pos[i]]
                 outcome.conflict_rows.append(

@@ -78,6 +78,8 @@ class ReadResult:
     records: list[Record]
     rejects: pd.DataFrame
     notes: list[str] = field(default_factory=list)
+    #: per record (same order), the file line of each of its rows, when the reader knows them
+    lines: list = field(default_factory=list)
 
     @property
     def n_rejected(self) -> int:

@@ -520,16 +520,23 @@ def _times(raw: RawTable, col: str, options: ReadOptions, rej: _Rejects, source:
         raise InputError(source, f"cannot read times with format {options.time_format!r}: {exc}",
                          column=col) from None
     t = parsed.times
+    if not t.isna().any():  # every cell parsed: nothing to explain
+        return t, _merge_zone(parsed, extra)
     blank = _blank(raw.frame[col])
     rej.reject(blank, col, "missing time")
     if parsed.local_invalid is not None:
         rej.reject(parsed.local_invalid, col, f"ambiguous or nonexistent local time in {tz} (daylight-saving "
                                               "change); give times in UTC or with an offset", raw.frame[col])
     rej.reject(t.isna().to_numpy() & ~blank, col, "unparseable time", raw.frame[col])
+    return t, _merge_zone(parsed, extra)
+
+
+def _merge_zone(parsed, extra: tuple[str, ...]) -> tuple[str, ...]:
+    """The parser's assumptions, with its generic zone note replaced by where the zone came from."""
     assumptions = parsed.assumptions
     if extra and any(a.startswith("naive timestamps taken in") for a in assumptions):
         assumptions = tuple(a for a in assumptions if not a.startswith("naive timestamps taken in")) + extra
-    return t, assumptions
+    return assumptions
 
 
 def _dedupe_and_sort(df: pd.DataFrame, lines: np.ndarray, key: list[str], compare: list[str], source: str,
@@ -538,7 +545,15 @@ def _dedupe_and_sort(df: pd.DataFrame, lines: np.ndarray, key: list[str], compar
     """Reject later duplicates of a key (same or conflicting values), then sort by time."""
     if len(df) == 0:
         return df, lines
-    dup = df.duplicated(subset=key, keep="first").to_numpy()
+    k0 = df[key[0]]
+    if len(key) == 1 and isinstance(k0.dtype, pd.DatetimeTZDtype) and k0.notna().all():
+        t = k0.to_numpy(dtype="datetime64[ns]").astype("int64")
+        if len(t) < 2 or bool(np.all(t[1:] >= t[:-1])):  # sorted (the usual case): duplicates are neighbours
+            dup = np.r_[False, t[1:] == t[:-1]] if len(t) else np.zeros(0, dtype=bool)
+        else:
+            dup = df.duplicated(subset=key, keep="first").to_numpy()
+    else:
+        dup = df.duplicated(subset=key, keep="first").to_numpy()
     if dup.any():
         first_line = {}
         keys = list(zip(*(df[k].to_numpy() for k in key), strict=True))
@@ -621,6 +636,7 @@ def _build_series(path: Path, raw: RawTable, plan: Plan, options: ReadOptions, r
     base_alive = rej.alive.copy()
     all_rows: list[tuple] = list(rej.rows)
     records: list[TimeSeries] = []
+    record_lines: list[np.ndarray] = []
     canonical = CANONICAL_UNIT[kind]
     for col, header in plan.values:
         rej.alive = base_alive.copy()
@@ -691,7 +707,8 @@ def _build_series(path: Path, raw: RawTable, plan: Plan, options: ReadOptions, r
         stations = (raw.frame[station_col].astype("string").str.strip() if station_col
                     else pd.Series(options.station or raw.meta.get("station"), index=times.index, dtype="object"))
         alive = rej.alive
-        df = df.loc[alive]
+        if not alive.all():
+            df = df.loc[alive]
         lines = raw.lines[alive]
         st = stations[alive]
         rows = rej.rows
@@ -700,7 +717,7 @@ def _build_series(path: Path, raw: RawTable, plan: Plan, options: ReadOptions, r
             part, plines = _dedupe_and_sort(df.loc[sel], lines[sel], ["time"], ["value", "end"], source, rows, notes,
                                             "timestamp", plan.roles["time"])
             part = part.astype({"time": "datetime64[ns, UTC]", "end": "datetime64[ns, UTC]"})
-            part.attrs["source_lines"] = plines  # file line of each row, for conflicts found in the archive
+            record_lines.append(plines)  # file line of each row, for conflicts found in the archive
             station_s = None if station is None or pd.isna(station) else str(station)
             meta = SeriesMeta(
                 kind=kind,
@@ -722,7 +739,7 @@ def _build_series(path: Path, raw: RawTable, plan: Plan, options: ReadOptions, r
         prov = make_provenance(path, reader, len(r.data), n_rej, first_unit, prov_assumptions, options)
         out.append(TimeSeries(r.data, r.meta, (prov,)))
     notes.extend(f"{source}: {a}" for a in dict.fromkeys(prov_assumptions))
-    return ReadResult(out, rejects_frame(all_rows), notes)
+    return ReadResult(out, rejects_frame(all_rows), notes, record_lines)
 
 
 def _species_for(kind: str, header: Header) -> str | None:
@@ -828,14 +845,13 @@ def _build_chronology(path: Path, raw: RawTable, plan: Plan, options: ReadOption
     rows = rej.rows
     df, lines = _dedupe_and_sort(df, lines, ["start"], ["end", "state"], source, rows, notes, "phase start",
                                  plan.roles["time"])
-    df.attrs["source_lines"] = lines
     ov = df["start"].iloc[1:].to_numpy() < df["end"].iloc[:-1].fillna(pd.Timestamp.max.tz_localize("UTC")).to_numpy()
     if ov.any():
         notes.append(f"{source}: {int(ov.sum())} phase(s) overlap the previous one (kept as given)")
     meta = SeriesMeta(kind="chronology", quantity="eruptive_state", station=options.station or raw.meta.get("station"))
     prov = make_provenance(path, reader, len(df), len(rows), None, assumptions, options)
     notes.extend(f"{source}: {a}" for a in assumptions)
-    return ReadResult([Chronology(df, meta, (prov,))], rejects_frame(rows), notes)
+    return ReadResult([Chronology(df, meta, (prov,))], rejects_frame(rows), notes, [lines])
 
 
 STATE_WORDS = {
@@ -927,14 +943,13 @@ def _build_catalog(path: Path, raw: RawTable, plan: Plan, options: ReadOptions, 
     rows = rej.rows
     df, lines = _dedupe_and_sort(df, lines, ["event_id"], ["time", "magnitude"], source, rows, notes, "event id",
                                  plan.roles.get("event_id"), sort_by="time")
-    df.attrs["source_lines"] = lines
     no_mag = int(df["magnitude"].isna().sum())
     if no_mag:
         notes.append(f"{source}: {no_mag} event(s) without magnitude: counted, but excluded from energy and b-value")
     meta = SeriesMeta(kind="seismic_catalog", quantity="events", station=options.station or raw.meta.get("station"))
     prov = make_provenance(path, reader, len(df), len(rows), None, assumptions, options)
     notes.extend(f"{source}: {a}" for a in dict.fromkeys(assumptions))
-    return ReadResult([EventCatalog(df, meta, (prov,))], rejects_frame(rows), notes)
+    return ReadResult([EventCatalog(df, meta, (prov,))], rejects_frame(rows), notes, [lines])
 
 
 def _event_ids(times: pd.Series, lat, lon, mag, labels: pd.Series) -> pd.Series:
