@@ -254,9 +254,7 @@ def _changepoints(b: RunBundle) -> None:
         targets["magma"] = (al.frame[["magma"]], {"magma": "identity"})
         if kind == "chronology":
             targets.pop("magma")
-    if "chronology" in al.kinds and "magma" not in targets:
-        targets["magma"] = (al.frame[["chronology"]].rename(columns={"chronology": "magma"}),
-                            {"magma": "identity"})
+    # a chronology needs no change points: its phase boundaries are the magma-output changes (see _regimes)
     if "ratio" in al.kinds:
         targets["ratio"] = (al.frame[["ratio"]], {"ratio": "identity"})
     if "catalog" in al.kinds:
@@ -274,14 +272,19 @@ def _changepoints(b: RunBundle) -> None:
 def _regimes(b: RunBundle) -> None:
     from degas.analysis.regimes import classify_regimes, segments_table
 
-    if "gas" not in b.changepoints or "magma" not in b.changepoints:
-        raise DegasError("needs change points of both the gas flux and the magma output")
-    p = b.project
+    if "gas" not in b.changepoints:
+        raise DegasError("needs change points of the gas flux")
     measure = "eruptive_fraction" if b.aligned.kinds.get("magma", "chronology") == "chronology" else "extrusion_rate"
+    if measure == "extrusion_rate" and "magma" in b.changepoints:
+        magma_segments = segments_table(b.changepoints["magma"], "magma")
+    elif "chronology" in b.records:
+        magma_segments = _phase_segments(b)  # the phases themselves are the magma-output segments
+    else:
+        raise DegasError("needs change points of the magma output or an eruption chronology")
+    p = b.project
     # the expected gas per magma is the record's own (coupled intervals), not the petrological value: the
     # petrological method gives a minimum (Devine et al. 1984) and is reported separately in the budget
-    res = classify_regimes(segments_table(b.changepoints["gas"], "gas"),
-                           segments_table(b.changepoints["magma"], "magma"), magma_measure=measure,
+    res = classify_regimes(segments_table(b.changepoints["gas"], "gas"), magma_segments, magma_measure=measure,
                            gas_factor=p.gas_factor, magma_threshold=p.magma_threshold, ratio_low=p.ratio_low,
                            ratio_high=p.ratio_high)
     if b.mode == "retrospective":  # labelled on the whole history, shown for the episode only
@@ -292,6 +295,25 @@ def _regimes(b: RunBundle) -> None:
         iv["duration_days"] = (iv["end"] - iv["start"]) / pd.Timedelta("1D")
         res = dataclasses.replace(res, intervals=iv.reset_index(drop=True))
     b.regimes = res
+
+
+def _phase_segments(b: RunBundle) -> pd.DataFrame:
+    """Segments (start, end, level = eruptive fraction 1 or 0) from the chronology's phases, over the gas span."""
+    ch = b.records["chronology"].data
+    seg = b.changepoints["gas"].segments
+    lo, hi = seg["start"].min(), seg["end"].max()
+    rows = []
+    for r in ch.itertuples():
+        start = max(r.start, lo)
+        end = min(hi if pd.isna(r.end) else r.end, hi)
+        if end > start and r.state in ("eruptive", "pause"):
+            rows.append({"start": start, "end": end, "level": 1.0 if r.state == "eruptive" else 0.0})
+    if not rows:
+        raise DegasError("the chronology has no eruptive or pause phase over the gas record")
+    out = pd.DataFrame(rows).sort_values("start").reset_index(drop=True)
+    # fill holes between phases as unknown-free continuity: a phase ends where the next begins
+    out["end"] = np.minimum(out["end"].to_numpy(), np.r_[out["start"].to_numpy()[1:], out["end"].to_numpy()[-1:]])
+    return out[out["end"] > out["start"]].reset_index(drop=True)
 
 
 def _gas_magma(b: RunBundle) -> tuple[pd.Series, pd.Series]:

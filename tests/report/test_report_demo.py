@@ -185,3 +185,19 @@ def test_a_review_before_any_data_says_what_it_could_not_do(demo_archive):
     b = run_all(demo_archive, Project(), mode="weekly", before=pd.Timestamp("2020-01-01", tz="UTC"))
     assert any("not run" in x for x in b.skipped)
     assert b.regimes is None and b.xcorr is None
+
+
+def test_a_chronology_alone_is_enough_for_regimes(demo_archive, demo_truth):
+    from degas.pipeline import run_all
+    from degas.project import Project
+
+    p = Project(volcano="Velmarra", gas=("gas_flux.so2_flux.VLM-N", "gas_flux.so2_flux.VLM-S"),
+                magma="chronology.eruptive_state.all", catalog="seismic_catalog.events.local")
+    b = run_all(demo_archive, p, mode="retrospective")
+    iv = b.regimes.intervals
+    assert b.regimes.magma_measure == "eruptive_fraction"
+    # the pause of the truth (gas without magma output) is found from the phases and the gas change points
+    mid_pause = pd.Timestamp("2024-03-01", tz="UTC")
+    pause = iv[(iv["start"] <= mid_pause) & (iv["end"] > mid_pause)]
+    assert pause["label"].iloc[0] == "gas_only"
+    assert pause["start"].iloc[0] == pd.Timestamp("2023-12-01", tz="UTC")  # the chronology's own boundary
