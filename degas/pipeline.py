@@ -17,7 +17,7 @@ from dataclasses import dataclass, field
 import numpy as np
 import pandas as pd
 
-from degas.errors import DegasError
+from degas.errors import DegasError, NotEnoughDataError
 from degas.project import Project
 from degas.store import Archive, SeriesEntry, entry_display
 
@@ -361,7 +361,11 @@ def _granger(b: RunBundle) -> None:
     from degas.analysis.granger import granger_test
 
     g, m = _gas_magma(b)
-    b.granger = granger_test(g, m, max_lag="10D", gas_name="SO2 flux", magma_name="magma output")
+    try:
+        b.granger = granger_test(g, m, max_lag="10D", gas_name="SO2 flux", magma_name="magma output")
+    except NotEnoughDataError as exc:  # short gap-free stretches: try a shorter lag order before giving up
+        b.granger = granger_test(g, m, max_lag="4D", gas_name="SO2 flux", magma_name="magma output")
+        b.notes.append(f"Granger tests limited to lag orders up to 4 days ({exc}); weak evidence either way")
 
 
 def _budget(b: RunBundle) -> None:
