@@ -18,7 +18,7 @@ from hypothesis import strategies as st
 from degas.errors import ConfigError, InputError
 from degas.io.base import REJECT_COLUMNS, ReadOptions, ReadResult, file_sha256
 from degas.io.fdsn_text import is_fdsn_text, read_fdsn_text
-from degas.model import CATALOG_COLUMNS, EVENT_CLASSES, EventCatalog
+from tests.io.catalog_checks import check_catalog, head
 
 DATA = Path(__file__).resolve().parent.parent / "data" / "seismic_catalog"
 BASIC = DATA / "fdsn_text_basic.txt"
@@ -30,21 +30,6 @@ HEADER13 = (
 HEADER14 = HEADER13 + "|EventType"
 
 
-def _head(path: Path) -> bytes:
-    return path.read_bytes()[:65536]
-
-
-def _check_catalog(cat: EventCatalog) -> None:
-    df = cat.data
-    assert tuple(df.columns) == CATALOG_COLUMNS
-    assert str(df["time"].dtype) == "datetime64[ns, UTC]"
-    for c in ("latitude_deg", "longitude_deg", "depth_m", "magnitude"):
-        assert df[c].dtype == np.float64, c
-    for c in ("magnitude_type", "event_class", "event_id", "source_type"):
-        assert isinstance(df[c].dtype, pd.StringDtype), c
-    assert set(df["event_class"]) <= set(EVENT_CLASSES)
-    assert df["time"].is_monotonic_increasing
-
 
 # --- detection ------------------------------------------------------------------------------------
 
@@ -52,7 +37,7 @@ def _check_catalog(cat: EventCatalog) -> None:
 @pytest.mark.parametrize("name", ["fdsn_text_basic.txt", "fdsn_text_awkward_14col.txt", "fdsn_text_header_only.txt"])
 def test_is_fdsn_text_accepts_fdsn_text(name: str) -> None:
     p = DATA / name
-    assert is_fdsn_text(_head(p), p)
+    assert is_fdsn_text(head(p), p)
 
 
 @pytest.mark.parametrize(
@@ -60,7 +45,7 @@ def test_is_fdsn_text_accepts_fdsn_text(name: str) -> None:
 )
 def test_is_fdsn_text_rejects_other_files(name: str) -> None:
     p = DATA / name
-    assert not is_fdsn_text(_head(p), p)
+    assert not is_fdsn_text(head(p), p)
 
 
 def test_is_fdsn_text_rejects_comment_then_data_without_header() -> None:
@@ -82,7 +67,7 @@ def test_basic_file() -> None:
     res = read_fdsn_text(BASIC, ReadOptions())
     assert isinstance(res, ReadResult) and len(res.records) == 1
     cat = res.records[0]
-    _check_catalog(cat)
+    check_catalog(cat)
     df = cat.data
     assert df["event_id"].tolist() == ["qx2024aa02", "qx2024aa01", "qx2024aa03"]  # sorted by time
     # Depth/km -> m: 20 km is 20000 m (REFERENCES.md section 4.2: km here, metres in QuakeML)
@@ -111,7 +96,7 @@ def awkward() -> ReadResult:
 
 def test_awkward_accepted_rows(awkward: ReadResult) -> None:
     cat = awkward.records[0]
-    _check_catalog(cat)
+    check_catalog(cat)
     df = cat.data.set_index("event_id")
     assert df.index.tolist() == ["qx2024bb01", "qx2024bb02", "qx2024bb03", "qx2024bb04", "qx2024bb05", "qx2024bb10"]
     # 0, 1, 6, 2, 3, 4 fractional digits, with and without Z: all UTC, exact to the microsecond
@@ -178,7 +163,7 @@ def test_header_names_are_case_insensitive_and_order_free(tmp_path: Path) -> Non
         "1.0|0|2024-05-01T09:00:00.000001|qx2|-45.4|12.4||rockfall\n",
         encoding="utf-8",
     )
-    assert is_fdsn_text(_head(p), p)
+    assert is_fdsn_text(head(p), p)
     df = read_fdsn_text(p, ReadOptions()).records[0].data
     assert df["event_id"].tolist() == ["qx2", "qx1"]
     assert df["depth_m"].tolist() == [0.0, 7000.0]
@@ -252,7 +237,7 @@ def test_all_rows_bad_gives_an_empty_catalog(tmp_path: Path) -> None:
     p.write_text(f"{HEADER13}\nqx1|2024-05-01T10:00:00Z|12\nqx2|yesterday|12|-45|3|||||ML|1||x\n")
     res = read_fdsn_text(p, ReadOptions())
     cat = res.records[0]
-    _check_catalog(cat)
+    check_catalog(cat)
     assert len(cat) == 0
     assert res.rejects["line"].tolist() == [2, 3]
     assert (cat.provenance[0].rows_accepted, cat.provenance[0].rows_rejected) == (0, 2)
@@ -342,7 +327,7 @@ def test_wrong_kind_of_file(name: str) -> None:
 def test_binary_garbage(tmp_path: Path) -> None:
     p = tmp_path / "garbage.txt"
     p.write_bytes(np.random.default_rng(5).integers(0, 256, 4096, dtype=np.uint8).tobytes())
-    assert not is_fdsn_text(_head(p), p)
+    assert not is_fdsn_text(head(p), p)
     with pytest.raises(InputError, match="garbage.txt"):
         read_fdsn_text(p, ReadOptions())
 
@@ -386,7 +371,7 @@ def test_random_rows_give_result_or_input_error(tmp_path: Path, rows: list[str])
         assert n_data == 0 and "no events" in str(exc)
         return
     cat = res.records[0]
-    _check_catalog(cat)
+    check_catalog(cat)
     # every data line is accounted for: accepted or rejected, never lost or duplicated
     assert len(cat) + len(res.rejects) == n_data
     assert cat.provenance[0].rows_accepted == len(cat)
@@ -419,4 +404,4 @@ def test_random_corruption_gives_result_or_input_error(tmp_path: Path, data: st.
         assert "\n" not in str(exc)
         return
     assert isinstance(res, ReadResult)
-    _check_catalog(res.records[0])
+    check_catalog(res.records[0])

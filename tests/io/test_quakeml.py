@@ -22,15 +22,13 @@ from degas.io import quakeml
 from degas.io.base import REJECT_COLUMNS, ReadOptions, ReadResult, file_sha256
 from degas.io.fdsn_text import read_fdsn_text
 from degas.io.quakeml import is_quakeml, read_quakeml
-from degas.model import CATALOG_COLUMNS, EVENT_CLASSES, EventCatalog
+from degas.model import EventCatalog
+from tests.io.catalog_checks import check_catalog, head
 
 DATA = Path(__file__).resolve().parent.parent / "data" / "seismic_catalog"
 BASIC = DATA / "quakeml_basic.xml"
 AWKWARD = DATA / "quakeml_awkward_bedrt.xml"
 
-
-def _head(path: Path) -> bytes:
-    return path.read_bytes()[:65536]
 
 
 def _line_of(path: Path, needle: str) -> int:
@@ -40,25 +38,13 @@ def _line_of(path: Path, needle: str) -> int:
     raise AssertionError(needle)
 
 
-def _check_catalog(cat: EventCatalog) -> None:
-    df = cat.data
-    assert tuple(df.columns) == CATALOG_COLUMNS
-    assert str(df["time"].dtype) == "datetime64[ns, UTC]"
-    for c in ("latitude_deg", "longitude_deg", "depth_m", "magnitude"):
-        assert df[c].dtype == np.float64, c
-    for c in ("magnitude_type", "event_class", "event_id", "source_type"):
-        assert isinstance(df[c].dtype, pd.StringDtype), c
-    assert set(df["event_class"]) <= set(EVENT_CLASSES)
-    assert df["time"].is_monotonic_increasing
-
-
 # --- detection ------------------------------------------------------------------------------------
 
 
 @pytest.mark.parametrize("name", ["quakeml_basic.xml", "quakeml_awkward_bedrt.xml", "quakeml_truncated.xml"])
 def test_is_quakeml_accepts_quakeml(name: str) -> None:
     p = DATA / name
-    assert is_quakeml(_head(p), p)
+    assert is_quakeml(head(p), p)
 
 
 @pytest.mark.parametrize(
@@ -66,7 +52,7 @@ def test_is_quakeml_accepts_quakeml(name: str) -> None:
 )
 def test_is_quakeml_rejects_other_files(name: str) -> None:
     p = DATA / name
-    assert not is_quakeml(_head(p), p)
+    assert not is_quakeml(head(p), p)
 
 
 @pytest.mark.parametrize(
@@ -81,7 +67,7 @@ def test_is_quakeml_rejects_other_files(name: str) -> None:
 def test_is_quakeml_accepts_documents_the_reader_must_refuse_itself(name: str) -> None:
     # detection says "QuakeML" so that read_quakeml gives the precise one-line refusal
     p = DATA / name
-    assert is_quakeml(_head(p), p)
+    assert is_quakeml(head(p), p)
 
 
 def test_is_quakeml_looks_at_the_root_element_not_just_the_namespace() -> None:
@@ -107,7 +93,7 @@ def test_basic_file() -> None:
     assert len(res.records) == 1
     cat = res.records[0]
     assert isinstance(cat, EventCatalog)
-    _check_catalog(cat)
+    check_catalog(cat)
     df = cat.data
     assert df["event_id"].tolist() == [
         "smi:xv.qxvo/event/qx2024aa02",
@@ -181,7 +167,7 @@ def _row(res: ReadResult, suffix: str) -> pd.Series:
 
 def test_awkward_bedrt_namespace_is_read(awkward: ReadResult) -> None:
     cat = awkward.records[0]
-    _check_catalog(cat)
+    check_catalog(cat)
     assert len(cat) == 5
     assert cat.provenance[0].rows_accepted == 5
     assert cat.provenance[0].rows_rejected == 3
@@ -272,7 +258,7 @@ def test_utf16_document_is_read(tmp_path: Path) -> None:
     p = tmp_path / "utf16.xml"
     text = BASIC.read_text(encoding="utf-8").replace('encoding="UTF-8"', 'encoding="UTF-16"')
     p.write_bytes(text.encode("utf-16"))
-    assert is_quakeml(_head(p), p)
+    assert is_quakeml(head(p), p)
     df = read_quakeml(p, ReadOptions()).records[0].data
     assert df["depth_m"].tolist() == [500.0, 20000.0, 0.0]
 
@@ -363,7 +349,7 @@ def test_mismatched_tag_gives_line_number() -> None:
 def test_binary_garbage(tmp_path: Path) -> None:
     p = tmp_path / "garbage.xml"
     p.write_bytes(np.random.default_rng(3).integers(0, 256, 4096, dtype=np.uint8).tobytes())
-    assert not is_quakeml(_head(p), p)
+    assert not is_quakeml(head(p), p)
     with pytest.raises(InputError, match="garbage.xml"):
         read_quakeml(p, ReadOptions())
 
@@ -437,4 +423,4 @@ def test_random_corruption_gives_result_or_input_error(tmp_path: Path, data: st.
         assert "\n" not in str(exc)
         return
     assert isinstance(res, ReadResult)
-    _check_catalog(res.records[0])
+    check_catalog(res.records[0])
