@@ -191,8 +191,8 @@ def review_series(series: TimeSeries, periods: ReviewPeriods, *, min_coverage: f
     if series.meta.unit and unit and series.meta.unit != unit:
         try:
             factor = conversion_factor(series.meta.unit, unit.replace("³", "^3"))
-        except DegasError:
-            factor = 1.0
+        except DegasError:  # keep SI values, and say so in the label rather than show them as display units
+            factor, unit = 1.0, series.meta.unit
     vals = daily["value"].to_numpy() * factor
     in_w = np.asarray(daily.index >= periods.window_start)
     w, b = vals[in_w], vals[~in_w]

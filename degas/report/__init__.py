@@ -23,7 +23,7 @@ from degas.units import KG_S_TO_T_D
 
 DAY = pd.Timedelta("1D")
 #: display unit of the levels in the change-point and segment tables, per analysed series
-CHANGE_UNITS = {"gas": "t/d", "ratio": "mol/mol", "lp_hybrid_rate": "events per bin"}
+CHANGE_UNITS = {"gas": "t/d", "ratio": "mol/mol"}
 
 
 def last_day(bundle) -> pd.Timestamp:
@@ -54,6 +54,8 @@ def tables(bundle) -> dict[str, pd.DataFrame]:
             seg["level"] = seg["level"] * KG_S_TO_T_D
             seg["spread"] = seg["spread"] * KG_S_TO_T_D
         unit = CHANGE_UNITS.get(name, "")
+        if name == "lp_hybrid_rate":
+            unit = "events per day" if pd.Timedelta(bundle.project.step) == DAY else f"events per {bundle.project.step}"
         if name == "magma":
             unit = "m³/s DRE" if bundle.aligned.kinds.get("magma") == "extrusion_rate" else "eruptive fraction"
         cps.append(ch.assign(unit=unit))
