@@ -137,6 +137,16 @@ def align(
             cols[f"{name}_coverage"] = np.ones(grid.n)
             notes.append(f"{name}: a catalogue carries no coverage; a zero count means no event listed")
             continue
+        if type(rec).__name__ == "ClassCounts":  # counts by class: rates as published, no magnitudes
+            counts = event_counts(rec, grid=grid, classes=event_classes)
+            cols[name] = counts["total"].to_numpy()
+            for c in counts.columns:
+                if c != "total":
+                    cols[f"{name}_{c}"] = counts[c].to_numpy()
+            cols[f"{name}_energy_j"] = np.full(grid.n, np.nan)
+            cols[f"{name}_coverage"] = np.isfinite(cols[name]).astype(float)
+            notes.append(f"{name}: counts by event class; a bin not counted is missing, not zero")
+            continue
         if isinstance(rec, Chronology):
             ef = eruptive_fraction(rec, grid=grid)
             val = ef["eruptive"].to_numpy()

@@ -38,6 +38,7 @@ KINDS: tuple[str, ...] = (
     "seismic_catalog",
     "amplitude",
     "other",
+    "event_counts",
 )
 
 #: Canonical (stored) unit per kind, as pint spellings. ``None``: the file's own unit is kept.
@@ -50,6 +51,7 @@ CANONICAL_UNIT: dict[str, str | None] = {
     "seismic_catalog": None,
     "amplitude": None,
     "other": None,
+    "event_counts": None,
 }
 
 #: Unit shown to people, per kind.
@@ -62,6 +64,7 @@ DISPLAY_UNIT: dict[str, str | None] = {
     "seismic_catalog": None,
     "amplitude": None,
     "other": None,
+    "event_counts": None,
 }
 
 #: Event classes of volcano seismology (volcano-tectonic, long-period, ...).

@@ -98,8 +98,21 @@ def choose_roles(archive: Archive, project: Project) -> dict:
     amps = tuple(e.series_id for e in _pick(entries, "amplitude"))
     if magma is not None and magma_is is None:
         magma_is = archive.entry(magma).meta.kind
+    counts = () if catalog else _counts_role(entries)  # counts by class stand in for a catalogue
     return {"gas": tuple(gas), "magma": magma, "magma_kind": magma_is, "ratio": ratio, "catalog": catalog,
-            "chronology": chron, "amplitude": amps}
+            "chronology": chron, "amplitude": amps, "counts": counts}
+
+
+def _counts_role(entries: list[SeriesEntry]) -> tuple[str, ...]:
+    """The event_counts series (one per class) of the station with the most rows, when there is no catalogue."""
+    counts = _pick(entries, "event_counts")
+    if not counts:
+        return ()
+    by_station: dict = {}
+    for e in counts:
+        by_station.setdefault(e.meta.station, []).append(e)
+    best = max(by_station.values(), key=lambda es: sum(e.n_rows for e in es))
+    return tuple(e.series_id for e in best)
 
 
 def run_all(archive: Archive, project: Project, *, mode: str = "weekly", before: pd.Timestamp | None = None,
@@ -111,7 +124,7 @@ def run_all(archive: Archive, project: Project, *, mode: str = "weekly", before:
     if mode not in ("weekly", "retrospective"):
         raise DegasError(f"unknown mode {mode!r}; valid: weekly, retrospective")
     roles = choose_roles(archive, project)
-    if not roles["gas"] and roles["magma"] is None and roles["catalog"] is None:
+    if not roles["gas"] and roles["magma"] is None and roles["catalog"] is None and not roles.get("counts"):
         raise DegasError(f"{archive.root}: no gas, magma-output or seismic series to analyse")
     inv = [entry_display(e) for e in archive.entries()]
     spans = [(pd.Timestamp(r["first"]), pd.Timestamp(r["last"])) for r in inv if r["first"]]
@@ -197,6 +210,12 @@ def _align(archive: Archive, b: RunBundle) -> None:
         recs["ratio"] = archive.load(b.roles["ratio"])
     if b.roles["catalog"]:
         recs["catalog"] = archive.load(b.roles["catalog"])
+    elif b.roles.get("counts"):
+        from degas.classcounts import ClassCounts
+
+        recs["catalog"] = ClassCounts.from_series([archive.load(sid) for sid in b.roles["counts"]])
+        b.notes.append("seismicity: published counts by event class (" + ", ".join(b.roles["counts"]) + "), "
+                       "taken as rates; no magnitudes, so no energy or b-value")
     for sid in b.roles["amplitude"]:
         recs[sid] = archive.load(sid)
     last = b.end - pd.Timedelta(1, "ns") if b.mode == "retrospective" else b.periods.window_end - pd.Timedelta(1, "ns")
@@ -260,7 +279,7 @@ def _changepoints(b: RunBundle) -> None:
     if "catalog" in al.kinds:
         cls = [c for c in p.lp_classes if f"catalog_{c}" in al.frame.columns]
         if cls:
-            lp = al.frame[[f"catalog_{c}" for c in cls]].sum(axis=1).to_frame("lp_hybrid_rate")
+            lp = al.frame[[f"catalog_{c}" for c in cls]].sum(axis=1, min_count=len(cls)).to_frame("lp_hybrid_rate")
             targets["lp_hybrid_rate"] = (lp, {"lp_hybrid_rate": "anscombe"})
     for name, (frame, transform) in targets.items():
         try:
@@ -395,6 +414,11 @@ def _seismicity(b: RunBundle) -> None:
     cat = b.records["catalog"]
     p = b.project
     b.seismic["rates"] = s.event_rates(cat, p.step)
+    if type(cat).__name__ == "ClassCounts":
+        from degas.analysis.count_rates import NO_MAGNITUDES
+
+        b.skipped.append(f"seismic energy, b-value and depths: not run: {NO_MAGNITUDES}")
+        return
     b.seismic["energy"] = s.seismic_energy(cat, p.step, allow_mixed_types=True)
     b.seismic["fmd"] = s.frequency_magnitude(cat, allow_mixed_types=True)
     try:
@@ -422,7 +446,11 @@ def _review(b: RunBundle) -> None:
         if rec is None or rec.meta.kind != e.meta.kind:
             rec = _clip(b.archive.load(e.series_id), per.baseline_start, per.window_end - pd.Timedelta(1, "ns"))
         b.review.append(review_series(rec, per, min_coverage=b.project.min_coverage, seed=b.project.seed))
-    if "catalog" in b.records:
+    if "catalog" in b.records and type(b.records["catalog"]).__name__ == "ClassCounts":
+        from degas.analysis.count_rates import review_counts
+
+        b.review_events = review_counts(b.records["catalog"], per)
+    elif "catalog" in b.records:
         cat = b.records["catalog"]
         b.review_events = review_events(cat, per)
         t = cat.data["time"]

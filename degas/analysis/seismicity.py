@@ -391,6 +391,10 @@ def event_rates(
     -------
     RateResult
     """
+    if type(catalog).__name__ == "ClassCounts":  # published counts by class (kind event_counts)
+        from degas.analysis.count_rates import rates_from_counts
+
+        return rates_from_counts(catalog, step, _class_tuple(classes), grid)
     cls = _canonical_classes(catalog)
     classes = _class_tuple(classes)
     if grid is None:
@@ -432,6 +436,10 @@ def event_rate_series(
     = count in bin / bin width in days); each row is the interval ``[time, end)`` of one bin.
     """
     classes = _class_tuple(classes)
+    if type(catalog).__name__ == "ClassCounts":  # published counts by class (kind event_counts)
+        from degas.analysis.count_rates import rate_series_from_counts
+
+        return rate_series_from_counts(catalog, step, classes, grid)
     cls = _canonical_classes(catalog)
     if grid is None:
         grid = _grid(cls.catalog, step)
@@ -1085,6 +1093,10 @@ def seismic_metrics(
     ``rate_per_day`` (all events, 1/d). ``attrs["notes"]`` carries the caveats.
     """
     classes = _class_tuple(classes)
+    if type(catalog).__name__ == "ClassCounts":  # published counts: the count columns only
+        from degas.analysis.count_rates import metrics_from_counts
+
+        return metrics_from_counts(catalog, step, classes, grid)
     cls = _canonical_classes(catalog)
     info = _magnitudes(catalog, allow_mixed_types, purpose="energy")
     if grid is None:

@@ -76,6 +76,15 @@ def ingest(
     accept_conflicts: bool = typer.Option(False, help="Let new values replace conflicting stored ones."),
     fmt: str | None = typer.Option(None, "--format", help="Force a reader (see 'degas formats')."),
     show_rejects: int = typer.Option(5, help="How many rejected rows to print per file."),
+    sheet: str | None = typer.Option(None, help="Workbook sheet: a name, a number (1 = first) or 'all' to stack "
+                                                "sheets of one layout (default: the first, with a note)."),
+    time_origin: str | None = typer.Option(None, help="Origin date of numeric times counted in --time-unit, "
+                                                      "e.g. 1995-01-01."),
+    time_unit: str | None = typer.Option(None, help="Unit of numeric times from --time-origin: D (days), h, s."),
+    accept_approximate_dates: bool = typer.Option(False, help="Keep dates like 'c. 1910' or '1830s' with a "
+                                                              "precision flag instead of rejecting them."),
+    depth_positive: str | None = typer.Option(None, help="Catalogue depths positive 'down' (below the datum, "
+                                                         "default) or 'up' (height above it)."),
 ) -> None:
     """Read monitoring exports into the archive (UTC, SI units, provenance); report every rejected row."""
     base = load_mapping(mapping) if mapping else ReadOptions()
@@ -86,6 +95,7 @@ def ingest(
         base, kind=kind, species=species, station=station, columns=columns, units={"value": unit} if unit else None,
         timezone=tz, dayfirst=dayfirst or None, time_format=time_format, vesicularity=vesicularity,
         bulk_density=bulk_density, dense_density=dense_density, allow_negative=allow_negative or None,
+        **_extra_options(sheet, time_origin, time_unit, accept_approximate_dates, depth_positive),
     )
     archive = Archive.create(into)
     failed = 0
@@ -99,6 +109,27 @@ def ingest(
         err_console.print(f"degas: {failed} of {len(files)} file(s) not ingested; the archive keeps everything "
                           "stored before", markup=False)
         raise typer.Exit(2)
+
+
+def _extra_options(sheet, time_origin, time_unit, accept_approximate_dates, depth_positive) -> dict:
+    """Validated values of the workbook, time-base, date-precision and depth options (None = not given)."""
+    given = {k: v for k, v in (("sheet", sheet), ("time_origin", time_origin), ("time_unit", time_unit),
+                               ("depth_positive", depth_positive)) if v is not None}
+    if accept_approximate_dates:
+        given["accept_approximate_dates"] = True
+    if given:
+        names = {"time_unit": "--time-unit", "depth_positive": "--depth-positive", "sheet": "--sheet"}
+        try:
+            options_from_dict(given, "option")
+        except DegasError as exc:
+            msg = str(exc)
+            for k, flag in names.items():
+                msg = msg.replace(k, flag)
+            raise typer.BadParameter(msg.removeprefix("option: ")) from None
+    if (time_origin is None) != (time_unit is None):
+        raise typer.BadParameter("--time-origin and --time-unit go together")
+    return {"sheet": sheet, "time_origin": time_origin, "time_unit": time_unit,
+            "accept_approximate_dates": accept_approximate_dates or None, "depth_positive": depth_positive}
 
 
 @app.command("inventory")

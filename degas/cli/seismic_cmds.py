@@ -23,6 +23,10 @@ def _load_catalog(source: Path, series: str | None) -> tuple[EventCatalog, list[
 
         archive = Archive.open(source)
         entries = archive.find(kind="seismic_catalog")
+        if not entries and series is None and archive.find(kind="event_counts"):
+            from degas.cli.counts_cmds import counts_from_archive
+
+            return counts_from_archive(archive), []
         if series is not None:
             entries = [e for e in entries if e.series_id == series]
         if not entries:
@@ -33,9 +37,13 @@ def _load_catalog(source: Path, series: str | None) -> tuple[EventCatalog, list[
             raise DegasError(f"{source}: the archive holds several seismic catalogues ({ids}); "
                              "choose one with --series")
         return archive.load(entries[0].series_id), []
+    from degas.cli.counts_cmds import counts_from_file
     from degas.io import read
     from degas.io.base import ReadOptions
 
+    counts = counts_from_file(source)
+    if counts is not None:
+        return counts
     result = read(source, ReadOptions(kind="seismic_catalog"))
     cats = [r for r in result.records if isinstance(r, EventCatalog)]
     if not cats:
@@ -83,6 +91,10 @@ def quakes(
 
     catalog, read_notes = _load_catalog(source, series)
     cls = _parse_classes(classes)
+    if type(catalog).__name__ == "ClassCounts":
+        from degas.cli.counts_cmds import quakes_from_counts
+
+        return quakes_from_counts(catalog, read_notes, step, cls, csv, json_out)
     rates = sz.event_rates(catalog, step, classes=cls)
     energy = sz.seismic_energy(catalog, step, classes=cls, allow_mixed_types=allow_mixed_types)
     metrics = sz.seismic_metrics(catalog, step, classes=cls, allow_mixed_types=allow_mixed_types)

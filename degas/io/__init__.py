@@ -45,7 +45,7 @@ def _lazy(module: str, func: str) -> Callable:
 
 
 TABLE_KINDS = ("gas_flux", "gas_ratio", "extrusion_rate", "erupted_volume", "chronology", "seismic_catalog",
-               "amplitude", "other")
+               "amplitude", "other", "event_counts")
 
 #: Registry in detection order: strict formats first, the loose delimited-text reader last.
 FORMATS: tuple[Format, ...] = (
@@ -55,6 +55,7 @@ FORMATS: tuple[Format, ...] = (
            _lazy("degas.io.fdsn_text", "read_fdsn_text")),
     Format("table/parquet", TABLE_KINDS, _lazy("degas.io.table", "is_parquet"), _table("parquet")),
     Format("table/excel", TABLE_KINDS, _lazy("degas.io.table", "is_excel"), _table("excel")),
+    Format("table/xls", TABLE_KINDS, _lazy("degas.io.workbook", "is_xls"), _table("xls")),
     Format("table/delimited", TABLE_KINDS, _lazy("degas.io.table", "is_delimited"), _table("delimited")),
 )
 
@@ -104,6 +105,10 @@ def read(path: str | Path, options: ReadOptions | None = None, format: str | Non
     if path.is_dir():
         raise InputError(str(path), "is a directory, not a file")
     options = options or ReadOptions()
+    if format is None and path.suffix.lower() in (".xls", ".xlsx", ".xlsm"):
+        from degas.io.workbook import workbook_engine
+
+        workbook_engine(path)  # a clear error when a workbook-named file is neither .xls nor .xlsx
     fmt = get_format(format) if format else detect_format(path)
     if options.kind is not None and options.kind not in fmt.kinds:
         raise InputError(path.name, f"looks like {fmt.name}, which cannot hold {options.kind} data (wrong file?)")

@@ -43,6 +43,13 @@ class ReadOptions:
     volume_basis : "dre" or "bulk" when the header does not say.
     allow_negative : keep negative fluxes/rates instead of rejecting them.
     magnitude_type : magnitude type for catalogues whose file does not give one.
+    sheet : workbook sheet to read: a name, a 1-based number, or "all" (sheets of one layout stacked).
+    time_origin : origin date of numeric day/hour/second counts (e.g. "1995-01-01"), with ``time_unit``.
+    time_unit : unit of numeric times counted from ``time_origin``: "D" (days), "h" or "s".
+    accept_approximate_dates : keep dates such as "c. 1910" or "1830s" with a precision flag instead of
+        rejecting them.
+    depth_positive : "down" (depth below the datum, the default) or "up" (height above it) for catalogue depths.
+    state_map : free-text activity state -> degas state (eruptive, pause, unknown), over the default words.
     """
 
     kind: str | None = None
@@ -60,6 +67,12 @@ class ReadOptions:
     volume_basis: str | None = None
     allow_negative: bool = False
     magnitude_type: str | None = None
+    sheet: str | None = None
+    time_origin: str | None = None
+    time_unit: str | None = None
+    accept_approximate_dates: bool = False
+    depth_positive: str | None = None
+    state_map: dict[str, str] = field(default_factory=dict)
 
     def as_pairs(self) -> tuple[tuple[str, str], ...]:
         """Options that were actually set, as (name, text) pairs for provenance."""

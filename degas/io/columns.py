@@ -23,7 +23,9 @@ ALIASES: dict[str, tuple[str, ...]] = {
     "time": ("time", "date", "datetime", "date time", "date/time", "timestamp", "utc", "time utc",
              "datetime utc", "date utc", "t", "epoch", "fecha", "fecha hora", "hora fecha", "datum",
              "zeit", "origin time", "origintime", "event time", "survey date", "survey", "date of survey",
-             "sample time", "scan time", "start time"),
+             "sample time", "scan time", "start time", "period start", "period start utc", "periodstart",
+             "periodstart utc", "date utc time", "date localtime", "date local time", "local time", "localtime",
+             "date local", "datetime local", "day", "date day"),
     "end": ("end", "end time", "end date", "stop", "until", "to", "fin", "finish", "end utc"),
     "start": ("start", "start date", "begin", "beginning", "from", "onset", "inicio", "start utc"),
     "uncertainty": ("uncertainty", "error", "err", "unc", "sigma", "1 sigma", "1sigma", "sd", "std", "stdev",
@@ -39,7 +41,8 @@ ALIASES: dict[str, tuple[str, ...]] = {
     "magnitude": ("magnitude", "mag", "ml", "md", "mw", "mb", "ms", "mc", "mlv", "mww", "mwc", "mwr", "magnitud"),
     "magnitude_type": ("magnitude type", "mag type", "magtype", "magnitudetype", "mag_type", "type of magnitude"),
     "event_class": ("type", "class", "event type", "event class", "eventtype", "type code", "code", "clase",
-                    "tipo", "classification", "volcanic class", "event code"),
+                    "tipo", "classification", "volcanic class", "event code", "etype", "evtype", "ev type",
+                    "event category"),
     "event_id": ("id", "event id", "eventid", "evid", "event", "public id", "publicid", "event_id"),
 }
 

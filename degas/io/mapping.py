@@ -27,10 +27,10 @@ from pathlib import Path
 from degas.errors import ConfigError
 from degas.io.base import ReadOptions
 from degas.io.columns import ROLES
-from degas.model import EVENT_CLASSES, KINDS
+from degas.model import ERUPTIVE_STATES, EVENT_CLASSES, KINDS
 
 _FIELDS = {f.name for f in dataclasses.fields(ReadOptions)}
-_DICT_FIELDS = {"columns", "units", "class_map"}
+_DICT_FIELDS = {"columns", "units", "class_map", "state_map"}
 
 
 def options_from_dict(d: dict, where: str = "mapping") -> ReadOptions:
@@ -52,6 +52,15 @@ def options_from_dict(d: dict, where: str = "mapping") -> ReadOptions:
     bad_cls = sorted({v for v in clean.get("class_map", {}).values() if v not in EVENT_CLASSES})
     if bad_cls:
         raise ConfigError(f"{where}: unknown event class(es) {bad_cls}; valid: {', '.join(EVENT_CLASSES)}")
+    if "sheet" in clean:
+        clean["sheet"] = str(clean["sheet"])
+    if clean.get("depth_positive") not in (None, "up", "down"):
+        raise ConfigError(f"{where}: depth_positive must be \"up\" or \"down\"")
+    if clean.get("time_unit") not in (None, "D", "d", "h", "s"):
+        raise ConfigError(f"{where}: time_unit must be D (days), h (hours) or s (seconds)")
+    bad_states = sorted({v for v in clean.get("state_map", {}).values() if v not in ERUPTIVE_STATES})
+    if bad_states:
+        raise ConfigError(f"{where}: unknown state(s) {bad_states} in [state_map]; valid: {', '.join(ERUPTIVE_STATES)}")
     for k in ("vesicularity", "bulk_density", "dense_density"):
         if k in clean:
             try:

@@ -51,7 +51,7 @@ HEAD_BYTES = 64 * 1024
 # Missing-value codes that instrument exports use (common practice); only negative ones, so that a real
 # 9999 counts or 9999 t/d is never thrown away. Other codes: map them with a mapping file or clean first.
 MISSING_CODES = (-999.0, -9999.0, -99999.0)
-SERIES_KINDS = ("gas_flux", "gas_ratio", "extrusion_rate", "erupted_volume", "amplitude", "other")
+SERIES_KINDS = ("gas_flux", "gas_ratio", "extrusion_rate", "erupted_volume", "amplitude", "other", "event_counts")
 NONNEGATIVE_KINDS = ("gas_flux", "extrusion_rate", "erupted_volume")
 
 
@@ -98,6 +98,7 @@ class RawTable:
     rejects: list[tuple] = field(default_factory=list)
     line_label: str = "line"
     delimiter: str | None = None
+    notes: list[str] = field(default_factory=list)  # what loading decided (sheet read, unit row, ...)
 
 
 def _decode(data: bytes) -> str:
@@ -248,39 +249,10 @@ def _valid_utf8(path: Path) -> bool:
 
 
 def load_excel(path: Path, sheet: str | int | None = None) -> RawTable:
-    """Read the first sheet (or ``sheet``) of an .xlsx workbook; rows above the header are metadata."""
-    try:
-        grid = pd.read_excel(path, sheet_name=sheet if sheet is not None else 0, header=None, dtype=object)
-    except Exception as exc:  # openpyxl raises many types for broken files
-        raise InputError(path.name, f"cannot read as an Excel workbook: {exc}") from None
-    if grid.empty:
-        raise InputError(path.name, "empty workbook sheet")
-    meta: dict[str, str] = {}
-    header_row = None
-    for i in range(min(len(grid), 50)):
-        cells = [c for c in grid.iloc[i].tolist() if isinstance(c, str) and c.strip()]
-        if len(cells) >= 2:
-            header_row = i
-            break
-        if cells:
-            m = _META.match("# " + cells[0].lstrip("# "))
-            if m:
-                meta[m.group(1).strip().lower()] = m.group(2)
-    if header_row is None:
-        raise InputError(path.name, "no header row found in the first 50 rows of the sheet")
-    header = [str(c).strip() if c is not None and not (isinstance(c, float) and np.isnan(c)) else ""
-              for c in grid.iloc[header_row].tolist()]
-    keep = [i for i, h in enumerate(header) if h]
-    frame = grid.iloc[header_row + 1:, keep].copy()
-    frame.columns = [header[i] for i in keep]
-    frame = frame.dropna(how="all")
-    lines = (frame.index.to_numpy() + 1).astype("int64")  # spreadsheet row numbers
-    frame = frame.reset_index(drop=True)
-    for c in frame.columns:
-        col = frame[c]
-        if col.map(lambda v: isinstance(v, pd.Timestamp) or hasattr(v, "isoformat")).all():
-            frame[c] = pd.to_datetime(col)
-    return RawTable(frame, list(frame.columns), lines, meta, [], line_label="row")
+    """Read the first sheet (or ``sheet``: name, 1-based number or "all") of an .xlsx or .xls workbook."""
+    from degas.io.workbook import load_workbook
+
+    return load_workbook(path, None if sheet is None else str(sheet))
 
 
 def load_parquet(path: Path) -> RawTable:
@@ -309,6 +281,7 @@ class Plan:
     roles: dict[str, str]  # role -> column
     values: list[tuple[str, Header]]  # value columns with parsed headers
     uncertainty_for: dict[str, str]  # value column -> uncertainty column
+    classes: dict[str, str] = field(default_factory=dict)  # event_counts: value column -> event class
 
 
 def _headers(raw: RawTable) -> dict[str, Header]:
@@ -361,6 +334,12 @@ def plan_columns(raw: RawTable, options: ReadOptions, source: str) -> Plan:
     if "time" not in roles:
         raise InputError(source, f"no time column found; columns are {list(hdrs)} "
                                  "(name one with --time-col or [columns] time = ... in a mapping file)")
+    if kind in (None, "event_counts"):
+        from degas.io.counts import count_columns
+
+        by_class = count_columns(hdrs, taken, options.class_map)
+        if kind == "event_counts" or len(by_class) >= 2:
+            return _plan_counts(source, hdrs, roles, taken, find, by_class, options)
     cat_roles = ("magnitude", "latitude", "longitude", "event_class", "magnitude_type", "event_id")
     looks_catalog = any(any(match_role(h, r) for r in ("magnitude", "latitude", "event_class"))
                         for c, h in hdrs.items() if c not in taken)
@@ -374,7 +353,8 @@ def plan_columns(raw: RawTable, options: ReadOptions, source: str) -> Plan:
     find("station")
     unc_cols = [c for c, h in hdrs.items() if c not in taken and match_role(h, "uncertainty")]
     unc_cols += [c for c, h in hdrs.items() if c not in taken and c not in unc_cols
-                 and re.search(r"\b(err|error|unc|sigma|sd|std)\b", h.name)]
+                 and (re.search(r"\b(err|error|unc|sigma|sd|std)\b", h.name)
+                      or re.fullmatch(r"(so2|co2|h2s|h2o)\s?(err|error|unc|sigma|sd|std)", h.name))]
     if "uncertainty" in roles:
         unc_cols = [roles["uncertainty"]]
     value_cols: list[str] = []
@@ -414,11 +394,46 @@ def plan_columns(raw: RawTable, options: ReadOptions, source: str) -> Plan:
             continue
         sp = species_in(hdrs[v].words)
         for u in unc_cols:
-            if sp and species_in(hdrs[u].words) == sp:
+            if sp and species_in(_unc_words(hdrs[u])) == sp:
                 unc_for[v] = u
+    order = list(hdrs)
+    for u in unc_cols:  # "±" or "sd" with no species: the value column just left of it
+        if u in unc_for.values() or species_in(_unc_words(hdrs[u])):
+            continue
+        left = order[order.index(u) - 1] if order.index(u) > 0 else None
+        if left in value_cols and left not in unc_for:
+            unc_for[left] = u
     for u in unc_cols:
         taken.add(u)
     return Plan(kind, roles, [(c, hdrs[c]) for c in value_cols], unc_for)
+
+
+def _plan_counts(source, hdrs, roles, taken, find, by_class, options) -> Plan:
+    """Plan of a counts-by-class table: time (and end, station) plus one column per event class."""
+    find("end")
+    find("station")
+    if "value" in roles:
+        from degas.io.counts import class_of_header
+
+        col = roles["value"]
+        by_class = {col: class_of_header(hdrs[col], options.class_map) or "other"}
+    by_class = {c: k for c, k in by_class.items() if c not in taken or c == roles.get("value")}
+    if not by_class:
+        raise InputError(source, f"no column of counts by event class found; columns are {list(hdrs)} (name the "
+                                 "classes VT, LP, hybrid, rockfall, explosion, tremor, or map local codes with "
+                                 "[class_map] in a --map file)")
+    seen: dict[str, str] = {}
+    for c, k in by_class.items():
+        if k in seen:
+            raise InputError(source, f"columns {seen[k]!r} and {c!r} both hold {k} counts; map them apart with "
+                                     "[class_map] in a --map file")
+        seen[k] = c
+    return Plan("event_counts", roles, [(c, hdrs[c]) for c in by_class], {}, dict(by_class))
+
+
+def _unc_words(h: Header) -> str:
+    """Words of an uncertainty header with a glued suffix split off ("so2err" -> "so2 err")."""
+    return re.sub(r"^(so2|co2|h2s|h2o)(err|error|unc|sigma|sd|std)$", r"\1 \2", h.words)
 
 
 # --------------------------------------------------------------------------- helpers
@@ -519,6 +534,10 @@ def _times(raw: RawTable, col: str, options: ReadOptions, rej: _Rejects, source:
     except (ValueError, TypeError) as exc:
         raise InputError(source, f"cannot read times with format {options.time_format!r}: {exc}",
                          column=col) from None
+    if tz is None and re.search(r"local", col, re.I) and any(a.startswith("naive timestamps taken as UTC")
+                                                             for a in parsed.assumptions):
+        raise InputError(source, f"column {col!r} holds local times and no zone was given; pass --tz (an IANA "
+                                 "zone or an offset such as -05:00), or tz = ... in a mapping file", column=col)
     t = parsed.times
     if not t.isna().any():  # every cell parsed: nothing to explain
         return t, _merge_zone(parsed, extra)
@@ -595,19 +614,25 @@ def _same(a, b) -> bool:
 
 def read_table(path: Path, options: ReadOptions, fmt: str) -> ReadResult:
     """Read a tabular file in format ``fmt`` ("delimited", "excel" or "parquet")."""
-    loader = {"delimited": load_delimited, "excel": load_excel, "parquet": load_parquet}[fmt]
-    raw = loader(path)
+    loader = {"delimited": load_delimited, "excel": load_excel, "xls": load_excel, "parquet": load_parquet}[fmt]
+    raw = load_excel(path, options.sheet) if fmt in ("excel", "xls") else loader(path)
     source = path.name
+    from degas.io.headers import merge_unit_row
+
+    raw = merge_unit_row(raw, source)
     if raw.frame.empty:
         raise InputError(source, "no data rows (header only)" if not raw.rejects else
                          f"no usable data rows ({len(raw.rejects)} malformed)")
     plan = plan_columns(raw, options, source)
     reader = f"table/{fmt}"
     if plan.kind == "chronology":
-        return _build_chronology(path, raw, plan, options, reader)
-    if plan.kind == "seismic_catalog":
-        return _build_catalog(path, raw, plan, options, reader)
-    return _build_series(path, raw, plan, options, reader)
+        result = _build_chronology(path, raw, plan, options, reader)
+    elif plan.kind == "seismic_catalog":
+        result = _build_catalog(path, raw, plan, options, reader)
+    else:
+        result = _build_series(path, raw, plan, options, reader)
+    result.notes[:0] = raw.notes
+    return result
 
 
 def _meta_float(raw: RawTable, *keys: str) -> float | None:
@@ -661,7 +686,11 @@ def _build_series(path: Path, raw: RawTable, plan: Plan, options: ReadOptions, r
             basis = options.volume_basis or volume_basis_in(header) or _basis_from_meta(raw)
         values = _numeric(raw.frame[col], raw.delimiter in (";", "\t"))
         v = values.to_numpy()
-        if np.isnan(v).any():  # only then look at why (the clean case skips the string work)
+        if kind == "event_counts":
+            from degas.io.counts_build import check_counts
+
+            check_counts(raw, col, v, rej, notes, source, _blank(raw.frame[col]))
+        elif np.isnan(v).any():  # only then look at why (the clean case skips the string work)
             blank = _blank(raw.frame[col])
             rej.reject(blank, col, "missing value")
             nan_text = (raw.frame[col].astype("string").str.strip().str.lower()
@@ -697,6 +726,10 @@ def _build_series(path: Path, raw: RawTable, plan: Plan, options: ReadOptions, r
         elif kind in ("erupted_volume", "extrusion_rate") and basis is None:
             notes.append(f"{source}: column {col!r} does not say whether volumes are DRE or bulk; stored "
                          "unconverted with the basis unknown")
+        if kind == "event_counts" and ends is None:
+            from degas.io.counts_build import count_interval_ends
+
+            ends = count_interval_ends(times, assumptions)
         df = pd.DataFrame({
             "time": times,
             "end": ends if ends is not None else pd.Series(pd.NaT, index=times.index, dtype="datetime64[ns, UTC]"),
@@ -704,6 +737,11 @@ def _build_series(path: Path, raw: RawTable, plan: Plan, options: ReadOptions, r
             "uncertainty": unc if unc is not None else np.full(len(v), np.nan),
             "quality": quality if quality is not None else pd.Series(pd.NA, index=times.index, dtype="string"),
         })
+        if station_col and options.station:  # --station wins over a station-like column, and says so
+            notes.append(f"{source}: station {options.station!r} from --station; column {station_col!r} not used")
+            station_col = None
+        elif station_col and col == plan.values[0][0]:
+            notes.append(f"{source}: station taken from column {station_col!r}")
         stations = (raw.frame[station_col].astype("string").str.strip() if station_col
                     else pd.Series(options.station or raw.meta.get("station"), index=times.index, dtype="object"))
         alive = rej.alive
@@ -721,7 +759,8 @@ def _build_series(path: Path, raw: RawTable, plan: Plan, options: ReadOptions, r
             station_s = None if station is None or pd.isna(station) else str(station)
             meta = SeriesMeta(
                 kind=kind,
-                quantity=_quantity(kind, species, header),
+                quantity=_quantity(kind, species, header) if kind != "event_counts" else
+                f"{plan.classes[col].lower()}_events",
                 station=station_s,
                 species=species if kind in ("gas_flux", "gas_ratio") else None,
                 unit=canonical if canonical else unit,
