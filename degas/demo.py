@@ -186,7 +186,7 @@ CHRONOLOGY_ROWS: tuple[tuple[str, str | None, str, str, str], ...] = (
     ("2023-12-01", "2024-06-01", "pause", "", "no extrusion; sustained degassing from the conduit"),
     ("2024-06-01", "2025-03-10", "eruptive", "effusive", "dome growth; gas emission low from mid-December 2024"),
     ("2025-03-10", "2025-03-11", "eruptive", "explosive", "explosive event at 08:42 UTC; ash column to ~6 km"),
-    ("2025-03-11", None, "eruptive", "effusive", "renewed dome growth"),
+    ("2025-03-11", None, "eruptive", "effusive", "renewed dome growth, ongoing"),
 )
 
 
@@ -1137,6 +1137,9 @@ def write_demo(out_dir: Path, seed: int = DEFAULT_SEED) -> list[Path]:
     paths.append(_write_truth(sc, out, _file_facts(sc, out)))
     paths.append(_write_text(out / "demo_ingest.toml", INGEST_TOML))
     paths.append(_write_text(out / "README.md", _readme(seed)))
+    from degas.demo_exports import write_extra_exports
+
+    paths.extend(write_extra_exports(sc, out))  # everyday-use examples; not part of the demo archive
     return paths
 
 

@@ -116,6 +116,8 @@ def conversion_factor(from_unit: str, to_unit: str) -> float:
         raise UnitError(
             f"unit {from_unit!r} ({_dim(src)}) cannot be converted to {to_unit!r} ({_dim(dst)})"
         ) from None
+    except (KeyError, ValueError, ZeroDivisionError, pint.PintError):  # e.g. a unit text scaled by 0
+        raise UnitError(f"unit {from_unit!r} cannot be converted to {to_unit!r}") from None
 
 
 def _dim(u: pint.Unit) -> str:

@@ -15,7 +15,7 @@ from degas.model import GAS_SPECIES
 
 ROLES = (
     "time", "end", "value", "uncertainty", "quality", "station", "state", "style", "note",
-    "latitude", "longitude", "depth", "magnitude", "magnitude_type", "event_class", "event_id",
+    "latitude", "longitude", "depth", "magnitude", "magnitude_type", "event_class", "event_id", "location",
 )
 
 # Aliases are compared after normalisation: lower case, units removed, separators -> single space.
@@ -25,7 +25,8 @@ ALIASES: dict[str, tuple[str, ...]] = {
              "zeit", "origin time", "origintime", "event time", "survey date", "survey", "date of survey",
              "sample time", "scan time", "start time", "period start", "period start utc", "periodstart",
              "periodstart utc", "date utc time", "date localtime", "date local time", "local time", "localtime",
-             "date local", "datetime local", "day", "date day"),
+             "date local", "datetime local", "day", "date day", "decimal year", "decyear", "dec year",
+             "year decimal", "datenum", "matlab datenum", "matlab time", "days", "day number", "hours", "seconds"),
     "end": ("end", "end time", "end date", "stop", "until", "to", "fin", "finish", "end utc"),
     "start": ("start", "start date", "begin", "beginning", "from", "onset", "inicio", "start utc"),
     "uncertainty": ("uncertainty", "error", "err", "unc", "sigma", "1 sigma", "1sigma", "sd", "std", "stdev",
@@ -34,6 +35,8 @@ ALIASES: dict[str, tuple[str, ...]] = {
     "station": ("station", "sta", "site", "instrument", "station code", "estacion", "stn"),
     "state": ("state", "activity", "phase", "eruptive state", "regime", "actividad"),
     "style": ("style", "eruptive style", "eruption style", "mode", "estilo"),
+    "location": ("location", "vent", "crater", "locality", "sector", "eruption site", "vent location", "lugar",
+                 "ubicacion"),
     "note": ("note", "notes", "remark", "remarks", "comment", "comments", "description", "observaciones"),
     "latitude": ("latitude", "lat", "lat deg", "latitude deg"),
     "longitude": ("longitude", "lon", "long", "lng", "lon deg", "longitude deg"),

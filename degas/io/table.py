@@ -99,6 +99,7 @@ class RawTable:
     line_label: str = "line"
     delimiter: str | None = None
     notes: list[str] = field(default_factory=list)  # what loading decided (sheet read, unit row, ...)
+    precision: dict = field(default_factory=dict)  # time column -> per-row date precision ("" = exact)
 
 
 def _decode(data: bytes) -> str:
@@ -320,6 +321,7 @@ def plan_columns(raw: RawTable, options: ReadOptions, source: str) -> Plan:
         find("end")
         find("state")
         find("style")
+        find("location")
         find("note")
         if "time" not in roles:
             raise InputError(source, f"no start column for a chronology; columns are {list(hdrs)}")
@@ -519,6 +521,13 @@ def _zone_from_text(text: str) -> str | None:
 
 
 def _times(raw: RawTable, col: str, options: ReadOptions, rej: _Rejects, source: str) -> tuple[pd.Series, tuple]:
+    from degas.io.timebase import checked_times
+
+    return checked_times(raw, col, options, rej, source, _times_parsed)
+
+
+def _times_parsed(raw: RawTable, col: str, options: ReadOptions, rej: _Rejects, source: str
+                  ) -> tuple[pd.Series, tuple]:
     tz = options.timezone or raw.meta.get("timezone") or raw.meta.get("time zone")
     extra: tuple[str, ...] = ()
     if tz is None:
@@ -538,10 +547,20 @@ def _times(raw: RawTable, col: str, options: ReadOptions, rej: _Rejects, source:
                                                              for a in parsed.assumptions):
         raise InputError(source, f"column {col!r} holds local times and no zone was given; pass --tz (an IANA "
                                  "zone or an offset such as -05:00), or tz = ... in a mapping file", column=col)
+    if parsed.format == "decimal_year" and options.time_format is None:
+        from degas.io.timebase import NUMERIC_TIME_HELP, header_says_year
+
+        if not header_says_year(col):
+            raise InputError(source, f"column {col!r} holds plain numbers; they look like years but the header "
+                                     f"does not say so, and degas does not guess: {NUMERIC_TIME_HELP}", column=col)
     t = parsed.times
     if not t.isna().any():  # every cell parsed: nothing to explain
         return t, _merge_zone(parsed, extra)
     blank = _blank(raw.frame[col])
+    if parsed.format in ("iso", "dayfirst") or "%" in parsed.format:
+        from degas.io.timebase import approximate_rows
+
+        approximate_rows(raw, col, options, rej, t, blank)
     rej.reject(blank, col, "missing time")
     if parsed.local_invalid is not None:
         rej.reject(parsed.local_invalid, col, f"ambiguous or nonexistent local time in {tz} (daylight-saving "
@@ -752,8 +771,16 @@ def _build_series(path: Path, raw: RawTable, plan: Plan, options: ReadOptions, r
         rows = rej.rows
         for station in pd.unique(st.to_numpy()) if len(st) else [options.station]:
             sel = (st == station).to_numpy() if station is not None and not pd.isna(station) else st.isna().to_numpy()
+            if kind == "erupted_volume":
+                from degas.io.surveys import flag_out_of_order
+
+                flag_out_of_order(df.loc[sel], lines[sel], source, notes)
             part, plines = _dedupe_and_sort(df.loc[sel], lines[sel], ["time"], ["value", "end"], source, rows, notes,
                                             "timestamp", plan.roles["time"])
+            if kind == "erupted_volume":
+                from degas.io.surveys import reject_decreases
+
+                part, plines = reject_decreases(part, plines, source, rows, col)
             part = part.astype({"time": "datetime64[ns, UTC]", "end": "datetime64[ns, UTC]"})
             record_lines.append(plines)  # file line of each row, for conflicts found in the archive
             station_s = None if station is None or pd.isna(station) else str(station)
@@ -851,46 +878,97 @@ def _dre_factor(options: ReadOptions, raw: RawTable, source: str) -> tuple[float
 
 
 def _build_chronology(path: Path, raw: RawTable, plan: Plan, options: ReadOptions, reader: str) -> ReadResult:
+    from degas.io import chronology as ch
+    from degas.io.timebase import is_sentinel_end
+
     source = path.name
     rej = _Rejects(source, raw)
     notes: list[str] = []
     start, assumptions = _times(raw, plan.roles["time"], options, rej, source)
-    if "end" in plan.roles:
-        endcol = raw.frame[plan.roles["end"]]
-        open_end = _blank(endcol)
+    assumptions = list(assumptions)
+    note = (raw.frame[plan.roles["note"]].astype("string") if "note" in plan.roles
+            else pd.Series(pd.NA, index=start.index, dtype="string"))
+    state_col = raw.frame.get(plan.roles.get("state"))
+    said = (state_col.astype("string").fillna("") if state_col is not None
+            else pd.Series("", index=start.index, dtype="string")) + " " + note.fillna("")
+    endcol = raw.frame[plan.roles["end"]] if "end" in plan.roles else None
+    if endcol is not None:
+        blank_end = _blank(endcol)
+        sentinel = is_sentinel_end(endcol)
+        open_end, point = ch.open_or_point(start, endcol, blank_end, sentinel, said)
+        given = ~(open_end | point)
         tmp = _Rejects(source, raw)
-        end, _ = _times(raw.__class__(raw.frame.assign(**{plan.roles["end"]: endcol.where(~open_end, "2000-01-01")}),
+        end, _ = _times(raw.__class__(raw.frame.assign(**{plan.roles["end"]: endcol.where(given, "2000-01-01")}),
                                       raw.headers, raw.lines, raw.meta), plan.roles["end"], options, tmp, source)
-        end = end.where(~open_end, pd.NaT)
+        end = end.where(given, pd.NaT)
         for row in tmp.rows:
             rej.rows.append(row)
         rej.alive &= tmp.alive
-        rej.reject((end <= start).to_numpy() & ~open_end, plan.roles["end"], "end is not after start", endcol)
+        rej.reject((end <= start).to_numpy() & given, plan.roles["end"], "end is not after start", endcol)
+        if sentinel.any():
+            notes.append(f"{source}: {int(sentinel.sum())} end date(s) like 9999-12-31 read as open (ongoing)")
     else:
         end = pd.Series(pd.NaT, index=start.index, dtype="datetime64[ns, UTC]")
-    state = _vocab(raw.frame.get(plan.roles.get("state")), STATE_WORDS, "unknown")
+        open_end, point = ch.open_or_point(start, None, np.ones(len(start), bool), np.zeros(len(start), bool), said)
+    if point.any():
+        end = end.where(~point, start)
+        notes.append(f"{source}: {int((point & rej.alive).sum())} row(s) with a start and no end read as point "
+                     "events (end = start); write 'ongoing' in the end, state or note for an open phase")
+    if (open_end & ~point).any() and endcol is not None:
+        n_open = int((open_end & rej.alive).sum())
+        if n_open:
+            notes.append(f"{source}: {n_open} phase(s) open (ongoing): no end stored")
+    state, unmapped = ch.map_states(state_col, len(start), options.state_map)
+    state.index = start.index
     style = _vocab(raw.frame.get(plan.roles.get("style")), STYLE_WORDS, "unknown")
     if plan.roles.get("state") is None:
         notes.append(f"{source}: no state column; every interval marked unknown")
-    # infer state from style when only style is given ("explosive" -> eruptive)
-    state = state.where(~((state == "unknown") & style.isin(["effusive", "explosive", "mixed"])), "eruptive")
-    note = (raw.frame[plan.roles["note"]].astype("string") if "note" in plan.roles
-            else pd.Series(pd.NA, index=start.index, dtype="string"))
+        # only a recognised style says "eruptive" then ("explosive" -> eruptive), and the note says so
+        inferred = (state == "unknown") & style.isin(["effusive", "explosive", "mixed"])
+        if inferred.any():
+            state = state.where(~inferred, "eruptive")
+            notes.append(f"{source}: {int(inferred.sum())} row(s) with an effusive/explosive style marked eruptive")
+    if unmapped:
+        shown = ", ".join(repr(u) for u in sorted(set(unmapped))[:10])
+        notes.append(f"{source}: state(s) {shown} not understood: kept unknown (map them with [state_map] in a "
+                     "--map file)")
+    prec = raw.precision.get(plan.roles["time"])
+    if prec is not None:
+        flag = prec.astype("string").fillna("")
+        note = note.where(flag == "", ("date precision: " + flag + "; " + note.fillna("")).str.rstrip("; "))
+        assumptions.append("approximate dates kept at the start of their span with a precision flag in the note "
+                           "(--accept-approximate-dates)")
+    location = (raw.frame[plan.roles["location"]].astype("string").str.strip() if "location" in plan.roles
+                else pd.Series(options.station or raw.meta.get("station"), index=start.index, dtype="object"))
     df = pd.DataFrame({"start": start, "end": end.astype("datetime64[ns, UTC]"), "state": state.astype("string"),
                        "style": style.astype("string"), "note": note})
     alive = rej.alive
     df = df.loc[alive]
-    lines = raw.lines[alive]
+    lines_all = raw.lines[alive]
+    loc = location[alive]
     rows = rej.rows
-    df, lines = _dedupe_and_sort(df, lines, ["start"], ["end", "state"], source, rows, notes, "phase start",
-                                 plan.roles["time"])
-    ov = df["start"].iloc[1:].to_numpy() < df["end"].iloc[:-1].fillna(pd.Timestamp.max.tz_localize("UTC")).to_numpy()
-    if ov.any():
-        notes.append(f"{source}: {int(ov.sum())} phase(s) overlap the previous one (kept as given)")
-    meta = SeriesMeta(kind="chronology", quantity="eruptive_state", station=options.station or raw.meta.get("station"))
-    prov = make_provenance(path, reader, len(df), len(rows), None, assumptions, options)
-    notes.extend(f"{source}: {a}" for a in assumptions)
-    return ReadResult([Chronology(df, meta, (prov,))], rejects_frame(rows), notes, [lines])
+    records, record_lines = [], []
+    groups = pd.unique(loc.to_numpy()) if len(loc) else [None]
+    if "location" in plan.roles and len(groups) > 1:
+        notes.append(f"{source}: {len(groups)} locations ({', '.join(map(str, groups))}): one chronology each")
+    for g in groups:
+        sel = (loc == g).to_numpy() if g is not None and not pd.isna(g) else loc.isna().to_numpy()
+        part, lines = _dedupe_and_sort(df.loc[sel], lines_all[sel], ["start"], ["end", "state"], source, rows,
+                                       notes, "phase start", plan.roles["time"])
+        ov = (part["start"].iloc[1:].to_numpy()
+              < part["end"].iloc[:-1].fillna(pd.Timestamp.max.tz_localize("UTC")).to_numpy())
+        if ov.any():
+            notes.append(f"{source}: {int(ov.sum())} phase(s) overlap the previous one (kept as given)")
+        station = None if g is None or pd.isna(g) else str(g)
+        records.append((part, station))
+        record_lines.append(lines)
+    out = []
+    for part, station in records:
+        meta = SeriesMeta(kind="chronology", quantity="eruptive_state", station=station)
+        prov = make_provenance(path, reader, len(part), len(rows), None, assumptions, options)
+        out.append(Chronology(part, meta, (prov,)))
+    notes.extend(f"{source}: {a}" for a in dict.fromkeys(assumptions))
+    return ReadResult(out, rejects_frame(rows), notes, record_lines)
 
 
 STATE_WORDS = {

@@ -2,7 +2,7 @@
 
 Accepted: ISO 8601 with or without offset ("2024-03-01T06:10:00-05:00", "2024-03-01 11:10"),
 day-first dates when told ("01/03/2024 11:10"), Excel serial days (1900 date system),
-decimal years (2024.1667), Unix seconds, any strftime pattern, and native datetimes from
+decimal years (2024.1667), Unix seconds, MATLAB datenums, any strftime pattern, and native datetimes from
 Excel/Parquet. Naive times are taken in the stated zone; with no zone they are taken as UTC
 and that assumption is returned so it can be recorded in the provenance.
 """
@@ -16,7 +16,7 @@ import pandas as pd
 
 from degas.errors import DegasError
 
-TIME_FORMATS = ("iso", "excel", "decimal_year", "unix", "dayfirst")
+TIME_FORMATS = ("iso", "excel", "decimal_year", "unix", "dayfirst", "datenum")
 EXCEL_EPOCH = pd.Timestamp("1899-12-30", tz="UTC")  # serial day 0 of the 1900 system (with its leap-year bug)
 
 
@@ -60,7 +60,7 @@ def parse_times(
         return ParsedTimes(t, "native", a, t.attrs.get("local_invalid"))
 
     numeric = None
-    if fmt in ("excel", "decimal_year", "unix") or (fmt is None and _looks_numeric(raw)):
+    if fmt in ("excel", "decimal_year", "unix", "datenum") or (fmt is None and _looks_numeric(raw)):
         numeric = pd.to_numeric(raw, errors="coerce") if not pd.api.types.is_numeric_dtype(raw) else raw
         numeric = numeric.astype("float64")
         if fmt is None:
@@ -211,8 +211,8 @@ def _guess_numeric_format(x: pd.Series) -> str:
     if med >= 1e8:
         return "unix"
     raise DegasError(
-        f"cannot tell what numeric times like {med:g} are; pass a time format "
-        "(excel, decimal_year, unix)"
+        f"cannot tell what numeric times like {med:g} are; pass --time-format (excel, unix, datenum, "
+        "decimal_year) or --time-origin DATE --time-unit D|h|s"
     )
 
 
@@ -224,6 +224,8 @@ def _from_numeric(x: pd.Series, fmt: str) -> pd.Series:
         ns = EXCEL_EPOCH.value + v * 86400e9
     elif fmt == "decimal_year":
         ns = _decimal_year_ns(v)
+    elif fmt == "datenum":  # MATLAB datenum: days since year 0; 719529 is 1970-01-01
+        ns = (v - 719529.0) * 86400e9
     else:
         raise DegasError(f"unknown numeric time format {fmt!r}")
     ok = np.isfinite(ns) & (np.abs(ns) < 9.2e18)
