@@ -1,4 +1,4 @@
-"""QuakeML 1.2 (BED and BED-RT) seismic catalogues -> :class:`degas.model.EventCatalog`.
+"""QuakeML 1.2 (BED and BED-RT; also 1.0 and 1.1 namespaces) seismic catalogues -> :class:`degas.model.EventCatalog`.
 
 Structure as summarised in REFERENCES.md section 4.1 (QuakeML BED 1.2, 2013; the specification
 document itself was not opened). The file is parsed in a single streaming pass with defusedxml
@@ -56,7 +56,11 @@ from degas.model import EventCatalog, SeriesMeta
 READER = "seismic_catalog/quakeml"
 QUAKEML_NS = "http://quakeml.org/xmlns/quakeml/1.2"
 QUAKEML_RT_NS = "http://quakeml.org/xmlns/quakeml-rt/1.2"
-BED_NAMESPACES = ("http://quakeml.org/xmlns/bed/1.2", "http://quakeml.org/xmlns/bed-rt/1.2")
+# QuakeML 1.0/1.1 documents (namespace URIs from memory): the elements degas reads are the same; in 1.0 the
+# BED elements may sit in the quakeml/1.0 namespace itself, so that namespace is read as BED too.
+OLD_NAMESPACES = ("http://quakeml.org/xmlns/quakeml/1.0", "http://quakeml.org/xmlns/bed/1.0",
+                  "http://quakeml.org/xmlns/quakeml/1.1", "http://quakeml.org/xmlns/bed/1.1")
+BED_NAMESPACES = ("http://quakeml.org/xmlns/bed/1.2", "http://quakeml.org/xmlns/bed-rt/1.2", *OLD_NAMESPACES)
 _ROOT_NAMESPACES = (QUAKEML_NS, QUAKEML_RT_NS, *BED_NAMESPACES)
 _CHUNK = 1 << 20
 
@@ -87,6 +91,7 @@ _EVENT = _Node(
         "preferredOriginID": _Node(leaf="pref_origin"),
         "preferredMagnitudeID": _Node(leaf="pref_mag"),
         "type": _Node(leaf="type"),
+        "typeCertainty": _Node(leaf="type_certainty"),
         "description": _Node({"text": _Node(leaf="desc_text"), "type": _Node(leaf="desc_type")}, opens="description"),
         "comment": _Node({"text": _Node(leaf="comment")}),
         "creationInfo": _Node({"agencyID": _Node(leaf="agency")}),
@@ -170,7 +175,7 @@ class _Handler:
             ns, _, name = tag.rpartition("}")
             if ns not in _ROOT_NAMESPACES:
                 shown = f"{{{ns}}}{name}" if ns else name
-                raise _NotQuakeML(f"root element is {shown}, not QuakeML 1.2 quakeml or eventParameters")
+                raise _NotQuakeML(f"root element is {shown}, not QuakeML (1.0-1.2) quakeml or eventParameters")
             stack.append(_EVENT_PARAMETERS if name == "eventParameters" else _DOCUMENT)
             return
         parent = stack[-1]
@@ -323,6 +328,7 @@ class _Collector:
         self.rejects: list[tuple] = []
         self.n_events = self.fallback_origin = self.fallback_mag = self.overridden = self.no_id = 0
         self.agencies: set[str] = set()
+        self.man_made: list[str] = []
 
     def add(self, ev: dict) -> None:
         self.n_events += 1
@@ -339,7 +345,13 @@ class _Collector:
         self.fallback_origin += fell_o
         self.fallback_mag += fell_m
         label = ev.get("type")
-        code = _local_code(ev, self.table)
+        from degas.io.catalog_rules import is_man_made
+
+        man_made = is_man_made(ev)
+        if man_made:
+            self.man_made.append(label or "")
+            label = "anthropogenic event"  # never the volcanic explosion class
+        code = _local_code(ev, self.table) if not man_made else None
         if code is not None and code != label:
             self.overridden += 1
             label = code
@@ -422,6 +434,10 @@ def read_quakeml(path: Path, options: ReadOptions) -> ReadResult:
         assumptions.append(f"{overridden} event(s) classed from a local code in description/comment text")
     if no_id:
         assumptions.append(f"{no_id} event(s) without publicID: id made from file name and line")
+    if col.man_made:
+        from degas.io.catalog_rules import man_made_note
+
+        assumptions.append(man_made_note(col.man_made))
     assumptions.extend(built.assumptions)
     if options.timezone:
         assumptions.append(f"timezone option {options.timezone!r} ignored: times in this format are UTC")

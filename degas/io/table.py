@@ -1025,6 +1025,9 @@ def _build_catalog(path: Path, raw: RawTable, plan: Plan, options: ReadOptions, 
             dunit = "km"
             assumptions.append("depth unit not stated; taken as km (common practice for catalogue exports)")
         depth = depth * conversion_factor(dunit, "m")
+        from degas.io.catalog_rules import apply_depth_sign
+
+        depth = apply_depth_sign(depth, options.depth_positive, assumptions)
     if "magnitude_type" in plan.roles:
         mtype = raw.frame[plan.roles["magnitude_type"]].astype("string").str.strip()
         mtype = mtype.where(mtype != "", pd.NA)

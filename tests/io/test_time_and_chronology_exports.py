@@ -139,3 +139,26 @@ def test_survey_decrease_rejected_and_out_of_order_named():
     assert res.rejects[["line", "reason"]].values.tolist() == [
         [5, "cumulative volume decreases from line 6 (a cumulative total cannot fall; check the survey)"]]
     assert any("line(s) 6 dated before an earlier row" in n for n in res.notes)
+
+
+# --------------------------------------------------------------------------- catalogues
+
+
+def test_quakeml_10_namespace_and_man_made_sources():
+    res = read(DATA / "quakeml_10_man_made.xml")
+    (cat,) = res.records
+    assert cat.provenance[0].reader == "seismic_catalog/quakeml"
+    assert cat.data["event_class"].tolist() == ["VT", "other", "other", "explosion"]
+    assert cat.data["source_type"].tolist()[1:3] == ["anthropogenic event", "anthropogenic event"]
+    note = next(n for n in res.notes if "man-made" in n)
+    assert "1 explosion" in note and "1 quarry blast" in note
+
+
+@pytest.mark.parametrize("positive,expected", [(None, [2500.0, -400.0]), ("up", [-2500.0, 400.0])])
+def test_csv_depth_sign(positive, expected):
+    res = read(DATA / "catalogue_etype.csv", ReadOptions(depth_positive=positive))
+    (cat,) = res.records
+    assert cat.data["depth_m"].tolist() == pytest.approx(expected)
+    assert any("negative depth read as above the datum" in n for n in res.notes)
+    if positive == "up":
+        assert any("--depth-positive up" in n and "sign flipped" in n for n in res.notes)
