@@ -274,7 +274,8 @@ class Archive:
     def _remove_strays(self) -> None:
         referenced = {e["file"] for e in self._manifest["series"].values()}
         referenced |= {s.get("rejects_file") for s in self._manifest["sources"].values()}
-        for sub in ("series", "rejects"):
+        referenced |= {s.get("contrib_file") for s in self._manifest["sources"].values()}
+        for sub in ("series", "rejects", "contrib"):
             d = self.root / sub
             d.mkdir(exist_ok=True)
             for p in d.iterdir():
@@ -315,11 +316,16 @@ class Archive:
             gen = self._manifest["generation"] + 1
             staged: dict[str, dict] = {}
             conflict_rows: list[tuple] = []
-            for i, rec in enumerate(result.records):
-                lines = result.lines[i] if i < len(result.lines) else None
-                o = self._stage(rec, gen, staged, accept_conflicts, lines)
-                report.outcomes.append(o)
-                conflict_rows.extend(o.conflict_rows)
+            self._contrib = {}
+            try:
+                for i, rec in enumerate(result.records):
+                    lines = result.lines[i] if i < len(result.lines) else None
+                    o = self._stage(rec, gen, staged, accept_conflicts, lines)
+                    report.outcomes.append(o)
+                    conflict_rows.extend(o.conflict_rows)
+                contrib_file = _write_contrib(self.root, gen, sha, self._contrib)
+            finally:
+                self._contrib = None
             rejects = result.rejects
             if conflict_rows:
                 rejects = pd.concat([rejects, pd.DataFrame(conflict_rows, columns=list(REJECT_COLUMNS))],
@@ -334,6 +340,8 @@ class Archive:
                 "name": path.name, "ingested_at": pd.Timestamp.now(tz="UTC").isoformat(timespec="seconds"),
                 "reader": report.reader, "accepted": report.accepted, "rejected": report.rejected,
                 "series": [o.series_id for o in report.outcomes], "rejects_file": rej_file,
+                "contrib_file": contrib_file, "sha256": sha,
+                "replaced": sum(o.replaced for o in report.outcomes),
             }
             self._commit(gen, staged, {sha: source})
         return report
@@ -368,6 +376,9 @@ class Archive:
             outcome.added = len(new)
             provenance = list(record.provenance)
             meta = record.meta
+        if getattr(self, "_contrib", None) is not None:  # keys this source added, for 'degas forget'
+            self._contrib.setdefault(sid, []).extend(
+                _added_keys(new, old if prev_entry is not None else None, rtype))
         sort_col = "start" if rtype == "Chronology" else "time"
         merged = merged.sort_values(sort_col, kind="stable").reset_index(drop=True)
         rel = f"series/{_safe(sid)}.g{gen}.parquet"
@@ -514,3 +525,154 @@ def entry_display(e: SeriesEntry) -> dict:
 
 
 __all__ = ["Archive", "AddOutcome", "FileReport", "SeriesEntry", "conform", "entry_display"]
+
+
+# ---------------------------------------------------------------------------------- forgetting a source
+
+
+def _key_strings(df: pd.DataFrame, rtype: str) -> list[str]:
+    """Row keys as text (the archive's merge keys), for recording and matching contributed rows."""
+    kf = _key_frame(df, _KEYS[rtype])
+    return kf.astype(str).agg("|".join, axis=1).tolist() if len(kf) else []
+
+
+def _added_keys(new: pd.DataFrame, old: pd.DataFrame | None, rtype: str) -> list[str]:
+    keys = _key_strings(new, rtype)
+    if old is None:
+        return keys
+    have = set(_key_strings(old, rtype))
+    return [k for k in keys if k not in have]
+
+
+def _write_contrib(root: Path, gen: int, sha: str, contrib: dict[str, list[str]]) -> str | None:
+    """Write the keys each series received from one source (``contrib/g<N>-<sha8>.parquet``)."""
+    import pyarrow as pa
+    import pyarrow.parquet as pq
+
+    rows = [(sid, k) for sid, keys in contrib.items() for k in keys]
+    rel = f"contrib/g{gen}-{sha[:8]}.parquet"
+    (root / "contrib").mkdir(exist_ok=True)
+    table = pa.table({"series_id": [r[0] for r in rows], "key": [r[1] for r in rows]},
+                     schema=pa.schema([("series_id", pa.string()), ("key", pa.string())]))
+    tmp = root / (rel + ".tmp")
+    pq.write_table(table, tmp)
+    _fsync_file(tmp)
+    os.replace(tmp, root / rel)
+    return rel
+
+
+@dataclass
+class ForgetReport:
+    """What forgetting one source did, per series: rows removed, series dropped, values it could not undo."""
+
+    source: str
+    sha256: str
+    generation: int
+    removed: dict[str, int] = field(default_factory=dict)
+    dropped: list[str] = field(default_factory=list)
+    notes: list[str] = field(default_factory=list)
+
+    def summary(self) -> str:
+        n = sum(self.removed.values())
+        parts = [f"{self.source}: forgotten (generation {self.generation}); {n} row(s) removed from "
+                 f"{len(self.removed)} series"]
+        if self.dropped:
+            parts.append(f"series left empty and removed: {', '.join(self.dropped)}")
+        return "; ".join(parts)
+
+
+def _find_source(archive: Archive, source: str | Path) -> tuple[str, dict]:
+    sources = archive._manifest["sources"]
+    p = Path(source)
+    if p.is_file():
+        sha = file_sha256(p)
+        if sha in sources:
+            return sha, sources[sha]
+        raise ArchiveError(f"{p.name}: this file (SHA-256 {sha[:12]}...) was never ingested into {archive.root}")
+    hits = [(k, v) for k, v in sources.items() if v.get("name") == p.name]
+    if not hits:
+        known = ", ".join(sorted({v.get("name", "?") for v in sources.values()})) or "(none)"
+        raise ArchiveError(f"no source named {p.name!r} in {archive.root}; ingested files: {known}")
+    if len(hits) > 1:
+        which = "; ".join(f"{v.get('ingested_at')} (SHA-256 {k[:12]}...)" for k, v in hits)
+        raise ArchiveError(f"{len(hits)} ingested files are named {p.name!r} ({which}); give the file's path so "
+                           "its SHA-256 says which")
+    return hits[0]
+
+
+def forget(archive: Archive, source: str | Path) -> ForgetReport:
+    """Remove what one ingested file contributed, as one new atomic generation.
+
+    ``source`` is the file's path (matched by SHA-256) or its name as listed in the manifest. Rows the file
+    added are removed from every series it touched; a series left empty is removed; the source leaves the
+    manifest's ``sources`` and is listed under ``forgotten`` with the generation that removed it. Values the
+    file replaced with ``--accept-conflicts`` cannot be restored (the note says so). A write that fails
+    leaves the archive as it was (new generation files, then the manifest replaced last).
+    """
+    import pyarrow as pa
+    import pyarrow.parquet as pq
+
+    with archive._writing():
+        sha, src = _find_source(archive, source)
+        gen = archive._manifest["generation"] + 1
+        contrib = None
+        if src.get("contrib_file") and (archive.root / src["contrib_file"]).exists():
+            t = pq.read_table(archive.root / src["contrib_file"]).to_pandas()
+            contrib = {sid: set(g["key"]) for sid, g in t.groupby("series_id")}
+        rep = ForgetReport(src.get("name", str(source)), sha, gen)
+        series = dict(archive._manifest["series"])
+        for sid in src.get("series", []):
+            entry = series.get(sid)
+            if entry is None:
+                continue
+            prov = [Provenance.from_dict(p) for p in entry["provenance"]]
+            others = [p for p in prov if p.sha256 != sha]
+            rtype = entry["record_type"]
+            old = conform(pq.read_table(archive.root / entry["file"]).to_pandas(), rtype)
+            if not others:
+                keep = np.zeros(len(old), dtype=bool)
+            elif contrib is None:
+                raise ArchiveError(f"{rep.source}: series {sid} also holds rows of other files, and this file was "
+                                   "ingested before degas recorded which rows each file added; nothing changed")
+            else:
+                mine = contrib.get(sid, set())
+                keep = ~np.isin(np.asarray(_key_strings(old, rtype), dtype=object), list(mine))
+            rep.removed[sid] = int((~keep).sum())
+            merged = old.loc[keep].reset_index(drop=True)
+            if merged.empty:
+                del series[sid]
+                rep.dropped.append(sid)
+                continue
+            rel = f"series/{_safe(sid)}.g{gen}.parquet"
+            tmp = archive.root / (rel + ".tmp")
+            pq.write_table(pa.Table.from_pandas(merged, preserve_index=False), tmp)
+            _fsync_file(tmp)
+            os.replace(tmp, archive.root / rel)
+            sort_col = "start" if rtype == "Chronology" else "time"
+            tcol = merged[sort_col]
+            last_t = tcol.max()
+            if "end" in merged and merged["end"].notna().any():
+                last_t = max(last_t, merged["end"].max())
+            series[sid] = SeriesEntry(sid, SeriesMeta.from_dict(entry["meta"]), rtype, rel, len(merged),
+                                      tcol.min().isoformat(), last_t.isoformat(), _largest_gap(tcol),
+                                      tuple(others)).to_dict()
+        if src.get("replaced"):
+            rep.notes.append(f"{src['replaced']} stored value(s) this file replaced (--accept-conflicts) keep the "
+                             "file's values: the replaced ones were not kept")
+        manifest = dict(archive._manifest)
+        manifest["series"] = series
+        manifest["sources"] = {k: v for k, v in archive._manifest["sources"].items() if k != sha}
+        manifest["forgotten"] = [*archive._manifest.get("forgotten", []), {
+            "name": rep.source, "sha256": sha, "generation": gen,
+            "at": pd.Timestamp.now(tz="UTC").isoformat(timespec="seconds"),
+            "rows_removed": rep.removed, "series_removed": rep.dropped}]
+        manifest["generation"] = gen
+        _atomic_write_text(archive.root / MANIFEST, json.dumps(manifest, indent=2, default=str))
+        old_files = {archive._manifest["series"][s]["file"] for s in src.get("series", [])
+                     if s in archive._manifest["series"]}
+        old_files |= {src.get("rejects_file"), src.get("contrib_file")} - {None}
+        archive._manifest = manifest
+        for f in old_files:
+            with contextlib.suppress(OSError):
+                (archive.root / f).unlink()
+    return rep

@@ -1,0 +1,96 @@
+"""'degas forget': undo one ingested file as a new generation, atomic, listed in the manifest."""
+
+from __future__ import annotations
+
+import json
+from pathlib import Path
+
+import pytest
+from typer.testing import CliRunner
+
+from degas.cli import app
+from degas.errors import ArchiveError
+from degas.store import Archive, forget
+
+A = "time,SO2 flux (t/d)\n2024-01-01,100\n2024-01-02,110\n2024-01-03,120\n"
+B = "time,SO2 flux (t/d)\n2024-01-03,120\n2024-01-04,130\n"  # one row A already gave, one new
+
+
+@pytest.fixture
+def arc(tmp_path: Path):
+    (tmp_path / "a.csv").write_text(A)
+    (tmp_path / "b.csv").write_text(B)
+    a = Archive.create(tmp_path / "arc")
+    opts = None
+    a.ingest_file(tmp_path / "a.csv", opts)
+    a.ingest_file(tmp_path / "b.csv", opts)
+    return a, tmp_path
+
+
+def test_forget_removes_only_the_rows_that_file_added(arc):
+    a, tmp = arc
+    (sid,) = [e.series_id for e in a.entries()]
+    gen = a._manifest["generation"]
+    rep = forget(a, tmp / "b.csv")
+    assert rep.removed == {sid: 1} and rep.generation == gen + 1
+    again = Archive.open(a.root)
+    data = again.load(sid).data
+    assert data["value"].tolist() == pytest.approx([100 / 86.4, 110 / 86.4, 120 / 86.4])  # A's row 3 kept
+    assert {p.source_name for p in again.entry(sid).provenance} == {"a.csv"}
+    m = json.loads((a.root / "manifest.json").read_text())
+    assert [s["name"] for s in m["sources"].values()] == ["a.csv"]
+    assert m["forgotten"][0]["name"] == "b.csv" and m["forgotten"][0]["generation"] == gen + 1
+    # the file can be ingested again afterwards
+    rep2 = again.ingest_file(tmp / "b.csv")
+    assert not rep2.skipped and sum(o.added for o in rep2.outcomes) == 1
+
+
+def test_forgetting_the_only_source_removes_the_series_and_its_files(arc):
+    a, tmp = arc
+    forget(a, "b.csv")
+    forget(a, "a.csv")
+    again = Archive.open(a.root)
+    assert again.entries() == [] and again.sources() == {}
+    assert list((a.root / "series").iterdir()) == []
+
+
+def test_unknown_source_is_a_clear_error_and_changes_nothing(arc):
+    a, tmp = arc
+    before = (a.root / "manifest.json").read_text()
+    with pytest.raises(ArchiveError, match="no source named 'c.csv'.*ingested files: a.csv, b.csv"):
+        forget(a, "c.csv")
+    (tmp / "c.csv").write_text("time,SO2 flux (t/d)\n2024-01-09,1\n")
+    with pytest.raises(ArchiveError, match="was never ingested"):
+        forget(a, tmp / "c.csv")
+    assert (a.root / "manifest.json").read_text() == before
+
+
+def test_a_failed_write_leaves_the_archive_as_it_was(arc, monkeypatch):
+    import degas.store as store
+
+    a, tmp = arc
+    before = (a.root / "manifest.json").read_text()
+    (sid,) = [e.series_id for e in a.entries()]
+    rows = len(a.load(sid))
+
+    def boom(*args, **kwargs):
+        raise OSError("disk full")
+
+    monkeypatch.setattr(store, "_atomic_write_text", boom)
+    with pytest.raises(OSError):
+        forget(a, "b.csv")
+    monkeypatch.undo()
+    again = Archive.open(a.root)
+    assert (a.root / "manifest.json").read_text() == before and len(again.load(sid)) == rows
+
+
+def test_cli_forget(arc, capsys):
+    from degas.cli._app import run
+
+    a, tmp = arc
+    res = CliRunner().invoke(app, ["forget", str(a.root), str(tmp / "b.csv")])
+    assert res.exit_code == 0, res.output
+    assert "b.csv: forgotten (generation 3); 1 row(s) removed from 1 series" in res.output
+    assert run(["forget", str(a.root), "zzz.csv"]) == 2
+    err = capsys.readouterr().err
+    assert "degas: error: no source named 'zzz.csv'" in err and "Traceback" not in err
