@@ -59,7 +59,8 @@ def ingest(
                                                   "QuakeML, FDSN event text)."),
     into: Path = typer.Option(..., "--into", help="Archive directory (created when missing)."),
     kind: str | None = typer.Option(None, help="gas_flux, gas_ratio, extrusion_rate, erupted_volume, chronology, "
-                                               "seismic_catalog, amplitude, other (default: detect)."),
+                                               "seismic_catalog, event_counts, amplitude, other (default: "
+                                               "detect)."),
     species: str | None = typer.Option(None, help="Gas species when the header does not say (SO2, CO2, H2S)."),
     station: str | None = typer.Option(None, help="Station / instrument id when the file has no station column."),
     mapping: Path | None = typer.Option(None, "--map", help="TOML mapping file (columns, units, options)."),
@@ -68,7 +69,8 @@ def ingest(
     unit: str | None = typer.Option(None, help="Unit of the value column, e.g. 't/d', 'kg/s', 'm3/s'."),
     tz: str | None = typer.Option(None, "--tz", help="Time zone of naive timestamps (default: UTC, recorded)."),
     dayfirst: bool = typer.Option(False, help="Read 03/04/2024 as 3 April."),
-    time_format: str | None = typer.Option(None, help="iso, excel, decimal_year, unix or a strftime pattern."),
+    time_format: str | None = typer.Option(None, help="iso, excel, decimal_year, unix, datenum (MATLAB) or a strftime "
+                                                           "pattern."),
     vesicularity: float | None = typer.Option(None, help="Void fraction (0-1) for bulk -> DRE volumes."),
     bulk_density: float | None = typer.Option(None, help="Bulk density (kg/m³) for bulk -> DRE volumes."),
     dense_density: float | None = typer.Option(None, help="Dense-rock density (kg/m³) for bulk -> DRE volumes."),
@@ -169,6 +171,11 @@ def formats() -> None:
 
     for f in FORMATS:
         console.print(f"{f.name:28s} {', '.join(f.kinds)}", markup=False)
+    from degas.io.options_doc import options_lines
+
+    console.print("\ningest options for real exports (CLI flag, mapping-file key, meaning):", markup=False)
+    for line in options_lines():
+        console.print(line, markup=False, soft_wrap=True)
 
 
 DEMO_MARKER = ".degas-demo"
@@ -233,3 +240,6 @@ def demo(
 
     print_summary(bundle)
     console.print(f"report: {path}", markup=False)
+
+
+from degas.cli import forget_cmds  # noqa: E402,F401  (registers the forget command)
