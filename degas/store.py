@@ -305,13 +305,14 @@ class Archive:
         if not path.is_file():
             raise DegasError(f"{path}: file not found")
         sha = file_sha256(path)
-        if sha in self._manifest["sources"]:
+        key = _source_key(sha, options, self._manifest["sources"])  # a column not read before is new
+        if key in self._manifest["sources"]:
             return FileReport(path.name, sha, skipped=True)
         result = read(path, options, format)
         report = FileReport(path.name, sha, reader=result.records[0].provenance[0].reader if result.records else None,
                             accepted=sum(len(r) for r in result.records), notes=list(result.notes))
         with self._writing():
-            if sha in self._manifest["sources"]:  # ingested by another process meanwhile
+            if key in self._manifest["sources"]:  # ingested by another process meanwhile
                 return FileReport(path.name, sha, skipped=True)
             gen = self._manifest["generation"] + 1
             staged: dict[str, dict] = {}
@@ -342,8 +343,9 @@ class Archive:
                 "series": [o.series_id for o in report.outcomes], "rejects_file": rej_file,
                 "contrib_file": contrib_file, "sha256": sha,
                 "replaced": sum(o.replaced for o in report.outcomes),
+                "columns_read": [r.meta.description for r in result.records if r.meta.description],
             }
-            self._commit(gen, staged, {sha: source})
+            self._commit(gen, staged, {key: source})
         return report
 
     def _stage(self, record: Record, gen: int, staged: dict, accept_conflicts: bool,
@@ -530,6 +532,20 @@ __all__ = ["Archive", "AddOutcome", "FileReport", "SeriesEntry", "conform", "ent
 # ---------------------------------------------------------------------------------- forgetting a source
 
 
+def _source_key(sha: str, options: ReadOptions | None, sources: dict) -> str:
+    """Manifest key of an ingest: the file's SHA-256, or SHA-256#column when ``--value-col`` asks for a
+    column that an earlier ingest of the same file did not read (so a second column is not refused)."""
+    col = (options.columns or {}).get("value") if options is not None else None
+    keys = [k for k in sources if k == sha or k.startswith(sha + "#")]
+    if not col or not keys:
+        return sha
+    for k in keys:
+        read = sources[k].get("columns_read")
+        if read is None or col in read:  # that column was read already (or the archive predates the record)
+            return k
+    return f"{sha}#{col}"
+
+
 def _key_strings(df: pd.DataFrame, rtype: str) -> list[str]:
     """Row keys as text (the archive's merge keys), for recording and matching contributed rows."""
     kf = _key_frame(df, _KEYS[rtype])
@@ -586,8 +602,9 @@ def _find_source(archive: Archive, source: str | Path) -> tuple[str, dict]:
     p = Path(source)
     if p.is_file():
         sha = file_sha256(p)
-        if sha in sources:
-            return sha, sources[sha]
+        for k in sources:  # the first reading of this file (a later --value-col reading is keyed sha#column)
+            if k == sha or k.startswith(sha + "#"):
+                return k, sources[k]
         raise ArchiveError(f"{p.name}: this file (SHA-256 {sha[:12]}...) was never ingested into {archive.root}")
     hits = [(k, v) for k, v in sources.items() if v.get("name") == p.name]
     if not hits:
@@ -613,7 +630,8 @@ def forget(archive: Archive, source: str | Path) -> ForgetReport:
     import pyarrow.parquet as pq
 
     with archive._writing():
-        sha, src = _find_source(archive, source)
+        key, src = _find_source(archive, source)
+        sha = key.split("#", 1)[0]
         gen = archive._manifest["generation"] + 1
         contrib = None
         if src.get("contrib_file") and (archive.root / src["contrib_file"]).exists():
@@ -661,7 +679,10 @@ def forget(archive: Archive, source: str | Path) -> ForgetReport:
                              "file's values: the replaced ones were not kept")
         manifest = dict(archive._manifest)
         manifest["series"] = series
-        manifest["sources"] = {k: v for k, v in archive._manifest["sources"].items() if k != sha}
+        manifest["sources"] = {k: v for k, v in archive._manifest["sources"].items() if k != key}
+        if any(k.startswith(sha + "#") or k == sha for k in manifest["sources"]):
+            rep.notes.append("another reading of the same file (another --value-col) remains; forget it again "
+                             "to remove that too")
         manifest["forgotten"] = [*archive._manifest.get("forgotten", []), {
             "name": rep.source, "sha256": sha, "generation": gen,
             "at": pd.Timestamp.now(tz="UTC").isoformat(timespec="seconds"),

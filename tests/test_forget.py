@@ -94,3 +94,21 @@ def test_cli_forget(arc, capsys):
     assert run(["forget", str(a.root), "zzz.csv"]) == 2
     err = capsys.readouterr().err
     assert "degas: error: no source named 'zzz.csv'" in err and "Traceback" not in err
+
+
+def test_a_second_value_column_of_the_same_file_is_not_refused(tmp_path):
+    from degas.io.base import ReadOptions
+
+    (tmp_path / "two.csv").write_text("time,SO2 flux (t/d),CO2 flux (t/d)\n2024-01-01,100,900\n2024-01-02,90,800\n")
+    a = Archive.create(tmp_path / "arc")
+    r1 = a.ingest_file(tmp_path / "two.csv", ReadOptions(columns={"value": "SO2 flux (t/d)"}, kind="gas_flux"))
+    assert [o.series_id for o in r1.outcomes] == ["gas_flux.so2_flux.all"]
+    again = a.ingest_file(tmp_path / "two.csv", ReadOptions(columns={"value": "SO2 flux (t/d)"}, kind="gas_flux"))
+    assert again.skipped
+    r2 = a.ingest_file(tmp_path / "two.csv", ReadOptions(columns={"value": "CO2 flux (t/d)"}, kind="gas_flux"))
+    assert not r2.skipped and [o.series_id for o in r2.outcomes] == ["gas_flux.co2_flux.all"]
+    assert {e.series_id for e in a.entries()} == {"gas_flux.so2_flux.all", "gas_flux.co2_flux.all"}
+    rep = forget(a, tmp_path / "two.csv")
+    assert rep.dropped == ["gas_flux.so2_flux.all"] and any("another reading" in n for n in rep.notes)
+    rep = forget(a, tmp_path / "two.csv")
+    assert rep.dropped == ["gas_flux.co2_flux.all"] and Archive.open(a.root).entries() == []

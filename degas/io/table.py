@@ -677,6 +677,13 @@ def _build_series(path: Path, raw: RawTable, plan: Plan, options: ReadOptions, r
         rej.reject(bad_order, plan.roles["end"], "end is not after start", raw.frame[plan.roles["end"]])
     station_col = plan.roles.get("station")
     quality = raw.frame[plan.roles["quality"]].astype("string").str.strip() if "quality" in plan.roles else None
+    prec = raw.precision.get(plan.roles["time"])
+    if prec is not None:  # --accept-approximate-dates: the precision flag goes into the quality column
+        flag = ("date precision: " + prec.astype("string")).where(prec != "", pd.NA)
+        quality = flag if quality is None else quality.where(flag.isna(), (quality.fillna("") + "; " + flag)
+                                                              .str.lstrip("; "))
+        assumptions.append("approximate dates kept at the start of their span, flagged in the quality column "
+                           "(--accept-approximate-dates)")
     base_alive = rej.alive.copy()
     all_rows: list[tuple] = list(rej.rows)
     records: list[TimeSeries] = []

@@ -68,11 +68,12 @@ def is_sentinel_end(col: pd.Series) -> np.ndarray:
     return s.str.match(r"^9999(?:[-/.]\d{1,2}[-/.]\d{1,2})?(?:[ T].*)?$").fillna(False).to_numpy(dtype=bool)
 
 
+_PART = {"early": "early in the year", "mid": "mid-year", "middle": "mid-year", "late": "late in the year"}
 _APPROX = (
     (re.compile(r"^(\d{3})0\s*'?s$", re.I), "decade", lambda m: (f"{m.group(1)}0-01-01", "decade")),
     (re.compile(r"^(early|mid|middle|late)[\s-]*(\d{4})$", re.I), "part of year",
      lambda m: (f"{m.group(2)}-{ {'early': '01', 'mid': '05', 'middle': '05', 'late': '09'}[m.group(1).lower()]}-01",
-                f"{m.group(1).lower()} of year")),
+                _PART[m.group(1).lower()])),
     (re.compile(r"^(?:c\.?|ca\.?|circa|approx\.?|about|~)\s*(\d{4})$", re.I), "circa year",
      lambda m: (f"{m.group(1)}-01-01", "circa year")),
     (re.compile(r"^(\d{4})\s*\?$"), "uncertain year", lambda m: (f"{m.group(1)}-01-01", "uncertain year")),

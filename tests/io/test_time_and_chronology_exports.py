@@ -162,3 +162,12 @@ def test_csv_depth_sign(positive, expected):
     assert any("negative depth read as above the datum" in n for n in res.notes)
     if positive == "up":
         assert any("--depth-positive up" in n and "sign flipped" in n for n in res.notes)
+
+
+def test_approximate_dates_in_a_series(write):
+    path = write("s.csv", "date,SO2 flux (t/d)\n2020-01-01,5\nEarly 2021,6\n")
+    res = read(path)
+    assert res.rejects["reason"].iloc[0].startswith("approximate date (early in the year)")
+    (ts,) = read(path, ReadOptions(accept_approximate_dates=True)).records
+    assert ts.data["time"].iloc[1] == pd.Timestamp("2021-01-01", tz="UTC")
+    assert ts.data["quality"].tolist()[1] == "date precision: early in the year" and pd.isna(ts.data["quality"].iloc[0])
