@@ -62,3 +62,14 @@ def test_report_renders_with_counts(archive, tmp_path):
     path = write_report(b, tmp_path)
     html = path.read_text(encoding="utf-8")
     assert "counts by event class" in html
+
+
+def test_weekly_review_with_counts(archive):
+    from degas.pipeline import run_all
+    from degas.project import Project
+
+    b = run_all(archive, Project(), mode="weekly")
+    rates = {r.event_class: r for r in b.review_events}
+    assert {"LP", "hybrid", "VT", "total"} <= set(rates)
+    # the window lies after the onset: LP rate up (about 6/d against a baseline that straddles the onset)
+    assert rates["LP"].rate_window_per_day > rates["LP"].rate_baseline_per_day

@@ -11,6 +11,8 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 import pytest
+from hypothesis import HealthCheck, given, settings
+from hypothesis import strategies as st
 
 from degas.errors import DegasError, InputError
 from degas.io import read
@@ -200,3 +202,37 @@ def test_counts_columns_of_one_class_twice_are_refused(write):
 def test_no_class_columns_for_event_counts_names_the_class_map(write):
     with pytest.raises(DegasError, match="class_map"):
         read(write("c.csv", "Date,foo\n2023-01-01,4\n"), ReadOptions(kind="event_counts"))
+
+
+# --------------------------------------------------------------------------- corrupted files
+
+
+@settings(max_examples=40, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture])
+@given(name=st.sampled_from(["counts_legacy.xls", "flux_per_year.xlsx"]), cut=st.integers(0, 6000),
+       junk=st.binary(max_size=64), pos=st.integers(0, 6000))
+def test_corrupted_workbooks_give_one_clear_error(tmp_path, name, cut, junk, pos):
+    raw = (DATA / name).read_bytes()
+    p = tmp_path / name
+    p.write_bytes(raw[:pos] + junk + raw[pos + len(junk):cut + pos] if cut else raw[:pos] + junk)
+    try:
+        read(p)
+    except DegasError as exc:
+        assert "\n" not in str(exc) and name in str(exc)
+
+
+_cell = st.one_of(st.integers(-3, 50).map(str), st.just(""), st.just("x"), st.just("1.5"), st.just("nan"))
+
+
+@settings(max_examples=60, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture])
+@given(rows=st.lists(st.tuples(st.sampled_from(["2023-01-01", "2023-01-02", "2023-01-03", "c. 1910", ""]),
+                               _cell, _cell), min_size=1, max_size=15))
+def test_random_counts_rows_keep_not_counted_apart(write, rows):
+    text = "Date,LP,Hybrid\n" + "\n".join(",".join(r) for r in rows) + "\n"
+    try:
+        res = read(write("c.csv", text))
+    except DegasError:
+        return
+    for r in res.records:
+        v = r.data["value"].to_numpy()
+        ok = np.isfinite(v)
+        assert (v[ok] >= 0).all() and (v[ok] == np.round(v[ok])).all()
