@@ -5,11 +5,13 @@ Layout of an archive directory::
     manifest.json                  what is stored: series, their metadata and provenance, sources
     series/<series_id>.g<N>.parquet   the rows of each series (generation N)
     rejects/g<N>-<sha8>.csv        rows rejected from each ingested file (file, line, column, reason)
+    contrib/g<N>-<sha8>.parquet    keys of the rows each ingested file added (what 'degas forget' removes)
     .lock                          held while a process writes
 
 Rules:
 
-* Re-ingesting a file with the same SHA-256 adds nothing.
+* Re-ingesting a file with the same SHA-256 adds nothing (unless ``--value-col`` names a column not read before).
+* :func:`forget` removes what one file added, as a new generation; the manifest lists it under ``forgotten``.
 * New rows append; a row with the same key as a stored one (time for series, start for a
   chronology, event id for a catalogue) and the same value is skipped; with another value it is
   a conflict, reported and kept out unless ``accept_conflicts`` lets the new value win.
