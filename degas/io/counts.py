@@ -30,11 +30,16 @@ def class_of_header(header: Header, class_map: dict[str, str] | None = None) -> 
     return None
 
 
-def count_columns(hdrs: dict[str, Header], taken: set[str], class_map: dict[str, str] | None) -> dict[str, str]:
-    """Column -> event class for every untaken column that names an event class."""
+#: Frequency-band names that also label amplitude bands (RSAM "HF", "LF"): counts only when --kind says so.
+_BAND_NAMES = {"hf", "lf", "high frequency", "low frequency"}
+
+
+def count_columns(hdrs: dict[str, Header], taken: set[str], class_map: dict[str, str] | None,
+                  *, told: bool = False) -> dict[str, str]:
+    """Column -> event class for every untaken column that names an event class (band names only if ``told``)."""
     out = {}
     for col, h in hdrs.items():
-        if col in taken:
+        if col in taken or (not told and h.name in _BAND_NAMES and h.name not in (class_map or {})):
             continue
         cls = class_of_header(h, class_map)
         if cls is not None:

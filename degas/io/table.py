@@ -339,7 +339,7 @@ def plan_columns(raw: RawTable, options: ReadOptions, source: str) -> Plan:
     if kind in (None, "event_counts"):
         from degas.io.counts import count_columns
 
-        by_class = count_columns(hdrs, taken, options.class_map)
+        by_class = count_columns(hdrs, taken, options.class_map, told=kind == "event_counts")
         if kind == "event_counts" or len(by_class) >= 2:
             return _plan_counts(source, hdrs, roles, taken, find, by_class, options)
     cat_roles = ("magnitude", "latitude", "longitude", "event_class", "magnitude_type", "event_id")

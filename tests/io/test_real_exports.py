@@ -236,3 +236,19 @@ def test_random_counts_rows_keep_not_counted_apart(write, rows):
         v = r.data["value"].to_numpy()
         ok = np.isfinite(v)
         assert (v[ok] >= 0).all() and (v[ok] == np.round(v[ok])).all()
+
+
+def test_band_names_alone_are_not_taken_for_counts(write):
+    text = "time,HF (counts),LF (counts)\n2023-01-01 00:00,120,340\n"
+    with pytest.raises(DegasError):  # amplitude bands: not guessed as VT/LP counts
+        read(write("bands.csv", text))
+    res = read(write("bands2.csv", text), ReadOptions(kind="event_counts"))
+    assert {r.meta.quantity for r in res.records} == {"vt_events", "lp_events"}
+
+
+def test_uncertainty_columns_reach_the_aligned_table_the_budget_reads():
+    from degas.align import align
+
+    q = _by_quantity(read(DATA / "flux_three_species.csv"))
+    al = align({"so2": q["so2_flux"]}, "1D")
+    assert al.frame["so2_uncertainty"].tolist() == pytest.approx([30 * T_D, 31 * T_D, 29 * T_D])
