@@ -114,7 +114,8 @@ def run_all(archive: Archive, project: Project, *, mode: str = "weekly", before:
     if not roles["gas"] and roles["magma"] is None and roles["catalog"] is None:
         raise DegasError(f"{archive.root}: no gas, magma-output or seismic series to analyse")
     inv = [entry_display(e) for e in archive.entries()]
-    spans = [(pd.Timestamp(r["first"]), pd.Timestamp(r["last"])) for r in inv if r["first"]]
+    spans = [(pd.Timestamp(r["first"]), pd.Timestamp(r["last"])) for r in inv
+             if r["first"] and r["kind"] != "melt_inclusions"]  # inclusion dates do not set the run span
     data_start = min(s for s, _ in spans)
     data_end = max(e for _, e in spans)
     assumptions = sorted({a for e in archive.entries() for p in e.provenance for a in p.assumptions})
