@@ -162,3 +162,18 @@ def test_sulfur_budget_bootstrap_spread_and_minimum_counts():
     assert lo < a.so2_per_m3 < hi
     with pytest.raises(NotEnoughDataError):
         P.sulfur_budget(_mi([{"phase": "p", "analysis_id": "x", "analysis_type": "inclusion", "s_frac": 1e-4}]))
+
+
+def test_budget_takes_inclusion_draws():
+    from degas.analysis.budget import SampledPetrology, gas_budget
+
+    mi = _two_levels()
+    sb = P.sulfur_budget(mi, density_kg_m3=2500.0, crystal_fraction=0.3, n_boot=500, seed=1)
+    petro = SampledPetrology(sb.draws, "test")
+    idx = pd.date_range("2024-01-01", periods=60, freq="D", tz="UTC")
+    q = pd.Series(2.0, index=idx)  # m³/s DRE
+    g = pd.Series(3.0 * 2.0 * sb.so2_per_m3, index=idx)  # three times what the melt can supply
+    res = gas_budget(g, q, petrology=petro, seed=0)
+    assert res.overall["excess_factor"] == pytest.approx(3.0, rel=1e-6)
+    lo, hi = res.overall["excess_p2_5"], res.overall["excess_p97_5"]
+    assert lo < 3.0 < hi and hi - lo > 0.05  # the bootstrap spread reaches the ratio
