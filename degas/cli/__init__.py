@@ -10,6 +10,7 @@ import sys
 
 # Command modules register on import; keep this list in sync with the files in this folder.
 from degas.cli import archive_cmds, change_cmds, coupling_cmds, report_cmds, seismic_cmds  # noqa: E402,F401
+from degas.cli import depth_cmds  # noqa: E402,F401
 from degas.cli._app import app, console  # noqa: F401
 
 
