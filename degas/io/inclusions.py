@@ -178,7 +178,7 @@ def build_melt_inclusions(path: Path, raw, options: ReadOptions, reader: str) ->
     atype_raw = text("analysis_type")
     if "analysis_type" in roles:
         lookup = {w: k for k, ws in _TYPE_WORDS.items() for w in ws}
-        low = atype_raw.str.lower().fillna("")
+        low = atype_raw.str.lower().fillna("").astype(object)
         atype = low.map(lambda x: lookup.get(x) or next((k for w, k in lookup.items() if len(w) > 3 and w in x),
                                                         None))
         bad = atype.isna().to_numpy()

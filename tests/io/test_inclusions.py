@@ -7,8 +7,10 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 import pytest
+from hypothesis import HealthCheck, given, settings
+from hypothesis import strategies as st
 
-from degas.errors import InputError
+from degas.errors import DegasError, InputError
 from degas.io import read
 from degas.io.base import ReadOptions
 from degas.model import MeltInclusions
@@ -84,3 +86,26 @@ def test_excel_and_archive_round_trip(tmp_path):
     pd.testing.assert_frame_equal(back.data, read(DATA / "inclusions_good.csv").records[0].data, check_dtype=False)
     again = arc.ingest_file(DATA / "inclusions_good.csv")  # same file again: nothing new
     assert len(arc.load(entry.series_id).data) == 4 and again is not None
+
+
+_cells = st.one_of(
+    st.floats(allow_nan=True, allow_infinity=True).map(repr),
+    st.text(alphabet=st.characters(blacklist_categories=("Cs",), blacklist_characters="\r\n,\"\x00"), max_size=10),
+    st.sampled_from(["", "NaN", "-1", "16", "MI", "matrix", "2024-01-01", "p1"]),
+)
+
+
+@settings(max_examples=80, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture])
+@given(rows=st.lists(st.tuples(_cells, _cells, _cells, _cells, _cells), max_size=20))
+def test_random_rows_give_inclusions_or_a_clean_error(write, rows):
+    text = "sample,phase,type,H2O (wt%),CO2 (ppm)\n" + "\n".join(",".join(r) for r in rows) + "\n"
+    try:
+        res = read(write("rand.csv", text), ReadOptions(kind="melt_inclusions"))
+    except DegasError:
+        return
+    for r in res.records:
+        d = r.data
+        h = d["h2o_frac"].dropna()
+        assert ((h >= 0) & (h <= 0.15)).all() and (d["co2_frac"].dropna() >= 0).all()
+        assert d["analysis_type"].isin(["inclusion", "matrix_glass", "embayment"]).all()
+        assert d["analysis_id"].is_unique
