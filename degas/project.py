@@ -45,6 +45,14 @@ With it the weekly run is one command (``degas report ARCHIVE --project velmarra
     window_days = 7
     baseline_days = 90
 
+    [inclusions]                  # melt-inclusion storage depths (degas.analysis.petrology)
+    model = "Liu"                 # Liu et al. (2005); VESIcal models need degas[petrology]
+    temperature_c = [825, 875]    # one value or [low, high], drawn uniformly in the Monte Carlo
+    crust_density_kg_m3 = 2600    # or crust_layers = [[0, 2300], [2000, 2700]] (top below vent m, kg/m³)
+    vent_elevation_m = 2350
+    hypocentre_datum = "sea_level"   # or "vent": where the catalogue's depths are measured from
+    crystal_fraction = 0.40       # with dense_density_kg_m3: the budget from the inclusions' S (Devine 1984)
+
     [[file]]                      # optional: files ingested before each weekly or report run (files already in
                                   # the archive are skipped by SHA-256), with reader options as in a mapping file
     path = "exports/so2_north.csv"

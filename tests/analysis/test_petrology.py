@@ -177,3 +177,32 @@ def test_budget_takes_inclusion_draws():
     assert res.overall["excess_factor"] == pytest.approx(3.0, rel=1e-6)
     lo, hi = res.overall["excess_p2_5"], res.overall["excess_p97_5"]
     assert lo < 3.0 < hi and hi - lo > 0.05  # the bootstrap spread reaches the ratio
+
+
+@pytest.mark.skipif(not HAVE_VESICAL, reason="VESIcal not installed (optional extra degas[petrology])")
+def test_second_model_gives_the_spread():
+    mi = _two_levels()
+    res = P.storage_depths(mi, temperature_c=850.0, n_draws=20, seed=0, alt_model="VESIcal-Liu")
+    assert res.alt_model == "VESIcal-Liu"
+    assert np.allclose(res.inclusions["pressure_alt_mpa"], res.inclusions["pressure_mpa"], rtol=0.01)
+    assert "pressure_alt_p50_mpa" in res.phases
+
+
+def test_project_inclusions_section_is_validated():
+    from degas.errors import ConfigError
+    from degas.project import project_from_dict
+
+    p = project_from_dict({"inclusions": {"model": "Liu", "temperature_c": [800, 900], "vent_elevation_m": 1200,
+                                          "crust_layers": [[0, 2300], [2000, 2700]], "hypocentre_datum": "vent",
+                                          "phase_temperatures_c": {"phase 2": 950}}})
+    s = p.inclusions
+    assert s.stated and s.temperature_c == (800.0, 900.0) and s.phase_temperatures_c == {"phase 2": 950.0}
+    assert s.crust().depth_below_vent(2300 * P.G_STANDARD * 2000) == pytest.approx(2000.0)
+    with pytest.raises(ConfigError, match="valid: Liu"):
+        project_from_dict({"inclusions": {"model": "Nope"}})
+    with pytest.raises(ConfigError, match="unknown key"):
+        project_from_dict({"inclusions": {"depth": 3}})
+    with pytest.raises(ConfigError, match="hypocentre_datum"):
+        project_from_dict({"inclusions": {"hypocentre_datum": "geoid"}})
+    with pytest.raises(ConfigError, match="temperature"):
+        project_from_dict({"inclusions": {"temperature_c": [900, 800]}})
