@@ -193,6 +193,33 @@ def saturation_pressure(model: str, h2o_wt_pct, co2_ppm, temperature_c, composit
     return vesical_saturation_pressure(model, h2o_wt_pct, co2_ppm, temperature_c, composition)
 
 
+def isobars(model: str, pressures_mpa: Sequence[float], temperature_c: float, composition: dict | None = None
+            ) -> pd.DataFrame:
+    """Isobars of a model: columns pressure_mpa, h2o_wt_pct, co2_ppm (fluid from pure CO2 to pure H2O).
+
+    Liu et al. (2005) from :func:`liu_isobar`; VESIcal models from its ``calculate_isobars_and_isopleths``.
+    """
+    check_model(model)
+    if model == "Liu":
+        return pd.concat([liu_isobar(p, temperature_c).assign(pressure_mpa=float(p))[
+            ["pressure_mpa", "h2o_wt_pct", "co2_ppm"]] for p in pressures_mpa], ignore_index=True)
+    import warnings
+
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        try:
+            import VESIcal as v
+        except ImportError:
+            raise DegasError(f"solubility model {model!r} needs VESIcal: pip install 'degas[petrology]'") from None
+        s = v.Sample({**(composition or RHYOLITE_WT_PCT), "H2O": 4.0, "CO2": 0.01})
+        iso = v.calculate_isobars_and_isopleths(sample=s, temperature=float(temperature_c),
+                                                pressure_list=[float(p) * 10 for p in pressures_mpa],
+                                                isopleth_list=[0, 1], model="Liu" if model == "VESIcal-Liu" else model,
+                                                print_status=False).result[0]
+    return pd.DataFrame({"pressure_mpa": iso["Pressure"].to_numpy(float) / 10,
+                         "h2o_wt_pct": iso["H2O_liq"].to_numpy(float), "co2_ppm": iso["CO2_liq"].to_numpy(float) * 1e4})
+
+
 # --------------------------------------------------------------------------- pressure -> depth
 
 

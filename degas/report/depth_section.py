@@ -80,16 +80,19 @@ def _trange(t: tuple[float, float]) -> str:
 
 def isobar_figure(ctx, mi_data: pd.DataFrame | None = None) -> go.Figure:
     """CO2 (ppm) against H2O (wt%) of inclusions and matrix glass, with Liu et al. (2005) isobars."""
-    from degas.analysis.petrology import liu_isobar
+    from degas.analysis.petrology import isobars
 
     st = ctx.storage
     t_mid = 0.5 * (st.temperature_c[0] + st.temperature_c[1])
+    iso_all = isobars(st.model, ISOBARS_MPA, t_mid)
     fig = go.Figure()
     inc = st.inclusions
     hmax = max(float(np.nanmax(inc["h2o_wt_pct"])) * 1.15, 2.0)
     cmax = max(float(np.nanmax(inc["co2_ppm"])) * 1.2, 100.0)
     for p in ISOBARS_MPA:
-        iso = liu_isobar(p, t_mid)
+        iso = iso_all[iso_all["pressure_mpa"] == p].reset_index(drop=True)
+        if iso.empty:
+            continue
         if iso["h2o_wt_pct"].min() > hmax and iso["co2_ppm"].min() > cmax:
             continue
         fig.add_trace(go.Scatter(x=iso["h2o_wt_pct"], y=iso["co2_ppm"], mode="lines", line=dict(color="#bbb",
@@ -110,7 +113,8 @@ def isobar_figure(ctx, mi_data: pd.DataFrame | None = None) -> go.Figure:
         if not g.empty:
             fig.add_trace(go.Scatter(x=g["h2o_frac"] * 100, y=(g["co2_frac"] * 1e6).fillna(0.0), mode="markers",
                                      marker=dict(color="#444", symbol="x", size=7), name="matrix glass"))
-    fig.update_layout(**LAYOUT, title=f"Dissolved CO2 against H2O, isobars of Liu et al. (2005) at {t_mid:g} °C",
+    label = MODEL_LABELS.get(st.model, st.model)
+    fig.update_layout(**LAYOUT, title=f"Dissolved CO2 against H2O, isobars of {label} at {t_mid:g} °C",
                       xaxis_title="H2O (wt%)", yaxis_title="CO2 (ppm)", height=480)
     fig.update_xaxes(range=[0, hmax])
     fig.update_yaxes(range=[0, cmax])

@@ -206,3 +206,12 @@ def test_project_inclusions_section_is_validated():
         project_from_dict({"inclusions": {"hypocentre_datum": "geoid"}})
     with pytest.raises(ConfigError, match="temperature"):
         project_from_dict({"inclusions": {"temperature_c": [900, 800]}})
+
+
+@pytest.mark.skipif(not HAVE_VESICAL, reason="VESIcal not installed (optional extra degas[petrology])")
+def test_isobars_of_vesical_liu_match_ours():
+    ours = P.isobars("Liu", [100.0], 850.0)
+    theirs = P.isobars("VESIcal-Liu", [100.0], 850.0)
+    # both ends of the isobar: pure-CO2 and pure-H2O solubility at 100 MPa
+    assert theirs["co2_ppm"].max() == pytest.approx(ours["co2_ppm"].max(), rel=0.01)
+    assert theirs["h2o_wt_pct"].max() == pytest.approx(ours["h2o_wt_pct"].max(), rel=0.01)
