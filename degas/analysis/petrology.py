@@ -440,12 +440,15 @@ class DepthComparisonResult:
 
     ``table`` columns: phase, start, end, n_inclusions, storage_p5/p50/p95_m, n_vt, vt_p5/p25/p50/p75/p95_m,
     overlap_share (inclusions whose 95 % depth interval intersects the VT 5-95 % range), inside_share
-    (inclusions whose central depth lies inside it). ``vt_events``: time, depth_m, phase of the VT events used.
+    (inclusions whose central depth lies inside it). ``vt_events``: time, depth_m, phase (empty outside the
+    phase windows) of every located VT event. ``vt_through_time``: per 30-day bin (UTC start) the number of
+    located VT events and their depth quantiles p25/p50/p75 (m below sea level), bins with 5 or more events.
     """
 
     table: pd.DataFrame
     vt_events: pd.DataFrame
     notes: tuple[str, ...] = field(default=())
+    vt_through_time: pd.DataFrame = field(default_factory=pd.DataFrame)
 
     def to_frame(self) -> pd.DataFrame:
         return self.table
@@ -493,8 +496,21 @@ def compare_with_seismicity(storage: StorageResult, catalog: EventCatalog | None
             if pd.notna(start):
                 notes.append(f"phase {name}: {len(z)} located VT event(s), fewer than {min_events}: no VT quantiles")
         rows.append(row)
-    vt = pd.concat(used, ignore_index=True) if used else pd.DataFrame(columns=["time", "depth_m", "phase"])
-    return DepthComparisonResult(pd.DataFrame(rows), vt, tuple(notes))
+    vt = ev[["time", "depth_m"]].assign(phase="").reset_index(drop=True)
+    for part in used:
+        vt.loc[vt["time"].isin(part["time"]), "phase"] = part["phase"].iloc[0]
+    return DepthComparisonResult(pd.DataFrame(rows), vt, tuple(notes), _through_time(vt))
+
+
+def _through_time(vt: pd.DataFrame, step: str = "30D", min_events: int = 5) -> pd.DataFrame:
+    """VT depth quantiles per ``step`` bin (the change of VT depths through time)."""
+    cols = ["time", "n", "p25_m", "p50_m", "p75_m"]
+    if vt.empty:
+        return pd.DataFrame(columns=cols)
+    g = vt.set_index("time")["depth_m"].resample(step)
+    out = pd.DataFrame({"n": g.count(), "p25_m": g.quantile(0.25), "p50_m": g.median(), "p75_m": g.quantile(0.75)})
+    out = out[out["n"] >= min_events].reset_index()
+    return out[cols]
 
 
 def phase_windows(mi: MeltInclusions, chronology=None, pad: pd.Timedelta = pd.Timedelta("30D")) -> dict:

@@ -127,7 +127,11 @@ def depth_time_figure(ctx) -> go.Figure:
     vt = ctx.comparison.vt_events
     if len(vt):
         fig.add_trace(go.Scattergl(x=vt["time"], y=vt["depth_m"] / 1000, mode="markers",
-                                   marker=dict(size=4, color="#3b6ea5", opacity=0.5), name="VT hypocentres"))
+                                   marker=dict(size=3, color="#3b6ea5", opacity=0.35), name="VT hypocentres"))
+    tt = ctx.comparison.vt_through_time
+    if len(tt):
+        fig.add_trace(go.Scatter(x=tt["time"], y=tt["p50_m"] / 1000, mode="lines+markers",
+                                 line=dict(color="#222", width=2), name="VT median depth per 30 days"))
     for i, r in enumerate(ctx.comparison.table.itertuples()):
         if pd.isna(r.start):
             continue
@@ -176,7 +180,8 @@ def add_depth_section(page, bundle) -> None:
                              "Matrix glass sits near the origin: degassed."))
     parts.append(page.figure(depth_time_figure(ctx), "fig-depth-time",
                              "Shaded: the 5–95 % range of the inclusions' storage depths in each phase's time "
-                             "window; line: median. Points: located VT hypocentres of those windows."))
+                             "window; coloured line: median. Points: every located VT hypocentre; black line: "
+                             "their median depth per 30 days."))
     parts.append("<h3>Storage depth and VT depths per phase</h3>" + table_html(phase_table(ctx))
                  + '<p class="caption">Overlap share: inclusions whose 95 % depth interval overlaps the VT '
                    "5–95 % depth range of the same phase.</p>")

@@ -215,3 +215,18 @@ def test_isobars_of_vesical_liu_match_ours():
     # both ends of the isobar: pure-CO2 and pure-H2O solubility at 100 MPa
     assert theirs["co2_ppm"].max() == pytest.approx(ours["co2_ppm"].max(), rel=0.01)
     assert theirs["h2o_wt_pct"].max() == pytest.approx(ours["h2o_wt_pct"].max(), rel=0.01)
+
+
+def test_vt_depths_through_time():
+    mi = _two_levels()
+    st = P.storage_depths(mi, temperature_c=850.0, n_draws=50, seed=0)
+    t = pd.date_range("2024-01-01", periods=120, freq="D", tz="UTC")
+    z = np.where(np.arange(120) < 60, 5000.0, 2000.0)  # VT depths shallow from day 60
+    cat = pd.DataFrame({"time": t, "latitude_deg": 0.0, "longitude_deg": 0.0, "depth_m": z, "magnitude": 1.0,
+                        "magnitude_type": "ML", "event_class": "VT", "event_id": [f"e{i}" for i in range(120)],
+                        "source_type": "VT"})
+    res = P.compare_with_seismicity(st, EventCatalog(cat, SeriesMeta(kind="seismic_catalog", quantity="events")),
+                                    P.phase_windows(mi))
+    tt = res.vt_through_time
+    assert tt["p50_m"].iloc[0] == 5000.0 and tt["p50_m"].iloc[-1] == 2000.0 and tt["n"].sum() == 120
+    assert len(res.vt_events) == 120 and set(res.vt_events["phase"]) <= {"", "p1", "p2"}
