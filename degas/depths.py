@@ -25,6 +25,7 @@ class DepthContext:
     sulfur: object | None
     settings: object
     notes: tuple[str, ...] = field(default=())
+    by_regime: object | None = None  # VT depth quantiles per regime label (DataFrame), when regimes were run
 
 
 def inclusion_series(archive: Archive, project: Project) -> str | None:
@@ -39,7 +40,7 @@ def inclusion_series(archive: Archive, project: Project) -> str | None:
 
 
 def depth_context(archive: Archive, project: Project, catalog_id: str | None = None,
-                  chronology_id: str | None = None) -> DepthContext | None:
+                  chronology_id: str | None = None, regimes=None) -> DepthContext | None:
     """Storage depths, VT comparison and inclusion S budget; None when the archive holds no inclusions."""
     from degas.analysis import petrology as P
 
@@ -67,6 +68,9 @@ def depth_context(archive: Archive, project: Project, catalog_id: str | None = N
     chron = archive.load(chronology_id) if chronology_id else None
     windows = P.phase_windows(mi, chron)
     comparison = P.compare_with_seismicity(storage, catalog, windows)
+    by_regime = None
+    if regimes is not None and catalog is not None:
+        by_regime = P.vt_depths_by_interval(catalog, regimes.intervals[["start", "end", "label"]])
     sulfur = None
     try:
         sulfur = P.sulfur_budget(mi, density_kg_m3=s.dense_density_kg_m3, density_sd=s.dense_density_sd_kg_m3,
@@ -74,7 +78,7 @@ def depth_context(archive: Archive, project: Project, catalog_id: str | None = N
                                  n_boot=s.bootstrap, seed=project.seed)
     except NotEnoughDataError as exc:
         notes.append(f"petrological budget from inclusions not computed: {exc}")
-    return DepthContext(sid, storage, comparison, sulfur, s, tuple(notes))
+    return DepthContext(sid, storage, comparison, sulfur, s, tuple(notes), by_regime)
 
 
 def inclusion_petrology(ctx: DepthContext | None):

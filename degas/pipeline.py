@@ -398,7 +398,7 @@ def _budget(b: RunBundle) -> None:
 def _depths(archive: Archive, b: RunBundle) -> None:
     from degas.depths import depth_context
 
-    b.depths = depth_context(archive, b.project, b.roles["catalog"], b.roles["chronology"])
+    b.depths = depth_context(archive, b.project, b.roles["catalog"], b.roles["chronology"], b.regimes)
 
 
 def _seismicity(b: RunBundle) -> None:

@@ -502,6 +502,29 @@ def compare_with_seismicity(storage: StorageResult, catalog: EventCatalog | None
     return DepthComparisonResult(pd.DataFrame(rows), vt, tuple(notes), _through_time(vt))
 
 
+def vt_depths_by_interval(catalog: EventCatalog, intervals: pd.DataFrame, *, classes: Sequence[str] = ("VT",),
+                          min_events: int = 10) -> pd.DataFrame:
+    """Located VT depth quantiles per interval label (e.g. per regime), depths as stored (m below sea level).
+
+    ``intervals`` : columns start, end (exclusive, UTC) and label. Returns one row per label: n_vt and
+    vt_p5/p25/p50/p75/p95_m (NaN below ``min_events`` events).
+    """
+    ev = catalog.data
+    ev = ev[ev["event_class"].isin(list(classes)) & ev["depth_m"].notna()]
+    t = ev["time"]
+    rows = []
+    for label, grp in intervals.groupby("label", sort=False):
+        sel = np.zeros(len(ev), dtype=bool)
+        for r in grp.itertuples():
+            sel |= ((t >= r.start) & (t < r.end)).to_numpy()
+        z = ev["depth_m"].to_numpy(dtype=float)[sel]
+        row = {"label": label, "n_vt": int(len(z))}
+        q = np.percentile(z, _Q) if len(z) >= min_events else np.full(len(_Q), np.nan)
+        row.update({f"vt_p{k}_m": float(v) for k, v in zip(_Q, q, strict=True)})
+        rows.append(row)
+    return pd.DataFrame(rows)
+
+
 def _through_time(vt: pd.DataFrame, step: str = "30D", min_events: int = 5) -> pd.DataFrame:
     """VT depth quantiles per ``step`` bin (the change of VT depths through time)."""
     cols = ["time", "n", "p25_m", "p50_m", "p75_m"]

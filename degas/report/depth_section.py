@@ -185,6 +185,14 @@ def add_depth_section(page, bundle) -> None:
     parts.append("<h3>Storage depth and VT depths per phase</h3>" + table_html(phase_table(ctx))
                  + '<p class="caption">Overlap share: inclusions whose 95 % depth interval overlaps the VT '
                    "5–95 % depth range of the same phase.</p>")
+    br = getattr(ctx, "by_regime", None)
+    if br is not None and len(br):
+        shown = pd.DataFrame({"regime": br["label"], "VT events": br["n_vt"],
+                              "VT km b.s.l., 5/25/50/75/95 %": [
+                                  "n/a" if not np.isfinite(a) else " / ".join(_km(x) for x in (a, b, c, d, e))
+                                  for a, b, c, d, e in zip(br["vt_p5_m"], br["vt_p25_m"], br["vt_p50_m"],
+                                                           br["vt_p75_m"], br["vt_p95_m"], strict=True)]})
+        parts.append("<h3>VT depths per regime</h3>" + table_html(shown))
     inc = ctx.storage.inclusions
     per = pd.DataFrame({"analysis": inc["analysis_id"], "phase": inc["phase"], "type": inc["analysis_type"],
                         "H2O wt%": inc["h2o_wt_pct"], "CO2 ppm": inc["co2_ppm"], "T °C": inc["temperature_c"],

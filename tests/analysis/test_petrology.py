@@ -230,3 +230,18 @@ def test_vt_depths_through_time():
     tt = res.vt_through_time
     assert tt["p50_m"].iloc[0] == 5000.0 and tt["p50_m"].iloc[-1] == 2000.0 and tt["n"].sum() == 120
     assert len(res.vt_events) == 120 and set(res.vt_events["phase"]) <= {"", "p1", "p2"}
+
+
+def test_vt_depths_by_regime_interval():
+    t = pd.date_range("2024-01-01", periods=100, freq="D", tz="UTC")
+    z = np.arange(100, dtype=float) * 100
+    cat = pd.DataFrame({"time": t, "latitude_deg": 0.0, "longitude_deg": 0.0, "depth_m": z, "magnitude": 1.0,
+                        "magnitude_type": "ML", "event_class": ["VT"] * 90 + ["LP"] * 10,
+                        "event_id": [f"e{i}" for i in range(100)], "source_type": "x"})
+    ec = EventCatalog(cat, SeriesMeta(kind="seismic_catalog", quantity="events"))
+    iv = pd.DataFrame({"start": pd.to_datetime(["2024-01-01", "2024-02-20", "2024-01-21"], utc=True),
+                       "end": pd.to_datetime(["2024-01-21", "2024-03-01", "2024-02-20"], utc=True),
+                       "label": ["coupled", "coupled", "gas_only"]})
+    res = P.vt_depths_by_interval(ec, iv).set_index("label")
+    assert res.loc["coupled", "n_vt"] == 30 and res.loc["gas_only", "n_vt"] == 30
+    assert res.loc["gas_only", "vt_p50_m"] == pytest.approx(np.median(z[20:50]))
