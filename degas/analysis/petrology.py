@@ -493,8 +493,9 @@ def compare_with_seismicity(storage: StorageResult, catalog: EventCatalog | None
         else:
             row.update({f"vt_p{k}_m": np.nan for k in _Q})
             row["overlap_share"] = row["inside_share"] = np.nan
-            if pd.notna(start):
-                notes.append(f"phase {name}: {len(z)} located VT event(s), fewer than {min_events}: no VT quantiles")
+            if pd.notna(start) and catalog is not None:
+                notes.append(f"{name}: {len(z)} located VT event(s) in its time window, fewer than {min_events}: "
+                             "no VT quantiles")
         rows.append(row)
     vt = ev[["time", "depth_m"]].assign(phase="").reset_index(drop=True)
     for part in used:
