@@ -140,6 +140,14 @@ def depth_time_figure(ctx) -> go.Figure:
                       fillcolor=col, opacity=0.18, line_width=0, layer="below")
         fig.add_trace(go.Scatter(x=[r.start, r.end], y=[r.storage_p50_m / 1000] * 2, mode="lines",
                                  line=dict(color=col, width=3), name=f"{r.phase}: inclusion storage (median, 5–95 %)"))
+    inc = ctx.storage.inclusions
+    inc = inc[(inc["analysis_type"] == "inclusion") & inc["time"].notna()]
+    if len(inc):
+        fig.add_trace(go.Scatter(
+            x=inc["time"], y=inc["depth_bsl_m"] / 1000, mode="markers", name="inclusions (95 % interval)",
+            marker=dict(size=7, color="#222", symbol="diamond-open"), text=inc["analysis_id"],
+            error_y=dict(type="data", symmetric=False, array=(inc["depth_p97_5_m"] - inc["depth_bsl_m"]) / 1000,
+                         arrayminus=(inc["depth_bsl_m"] - inc["depth_p2_5_m"]) / 1000, thickness=1, width=0)))
     fig.update_layout(**LAYOUT, title="VT depths and inclusion storage depths (km below sea level)", height=420,
                       yaxis_title="depth (km below sea level)")
     fig.update_yaxes(autorange="reversed")
@@ -180,8 +188,8 @@ def add_depth_section(page, bundle) -> None:
                              "Matrix glass sits near the origin: degassed."))
     parts.append(page.figure(depth_time_figure(ctx), "fig-depth-time",
                              "Shaded: the 5–95 % range of the inclusions' storage depths in each phase's time "
-                             "window; coloured line: median. Points: every located VT hypocentre; black line: "
-                             "their median depth per 30 days."))
+                             "window; coloured line: median; diamonds: each inclusion at its eruption date. Points: "
+                             "every located VT hypocentre; black line: their median depth per 30 days."))
     parts.append("<h3>Storage depth and VT depths per phase</h3>" + table_html(phase_table(ctx))
                  + '<p class="caption">Overlap share: inclusions whose 95 % depth interval overlaps the VT '
                    "5–95 % depth range of the same phase.</p>")
