@@ -40,10 +40,11 @@ def depth_sentences(ctx) -> list[str]:
     out.append(f"Depths are in km below sea level, the datum of the hypocentres (vent at "
                f"{crust.vent_elevation_m:g} m above sea level); pressures are volatile saturation pressures from "
                f"{MODEL_LABELS.get(ctx.storage.model, ctx.storage.model)} at {_trange(ctx.storage.temperature_c)}.")
+    vent = crust.vent_elevation_m
     for r in ctx.comparison.table.itertuples():
         s = (f"Inclusions from {r.phase} ({r.n_inclusions}) record {r.storage_p5_mpa:.0f}–{r.storage_p95_mpa:.0f} MPa "
              f"(5–95 %, median {r.storage_p50_mpa:.0f} MPa), {_km(r.storage_p5_m)}–{_km(r.storage_p95_m)} km below "
-             f"sea level")
+             f"sea level ({_km(r.storage_p5_m + vent)}–{_km(r.storage_p95_m + vent)} km below the vent)")
         if np.isfinite(r.vt_p5_m):
             rel = ("inside" if r.storage_p5_m >= r.vt_p5_m and r.storage_p95_m <= r.vt_p95_m else
                    "deeper than" if r.storage_p5_m > r.vt_p95_m else
