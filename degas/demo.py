@@ -120,6 +120,7 @@ FILES = (
     "seismic_regional_network.xml",
     "seismic_observatory_local.csv",
     "rsam_VLM1_hourly.csv",
+    "melt_inclusions.csv",
     "truth.json",
     "demo_ingest.toml",
     "README.md",
@@ -1060,11 +1061,103 @@ timezone = "UTC"
 [file.columns]
 time = "time (UTC)"
 value = "RSAM (counts)"
+
+[[file]]
+path = "melt_inclusions.csv"
+kind = "melt_inclusions"
+station = "VLM"
 """
+
+
+#: Melt-inclusion storage levels of the story (invented): pressure (MPa) and fluid x_H2O, 850 °C, 2600 kg/m³
+#: crust below the summit vent; depths below sea level = P / (ρ g) - summit elevation.
+INCLUSION_LEVELS = {
+    "shallow": {"pressure_mpa": 135.0, "x_h2o_fluid": 0.88},
+    "deep": {"pressure_mpa": 250.0, "x_h2o_fluid": 0.62},
+}
+INCLUSION_TEMPERATURE_C = 850.0
+INCLUSION_STREAM = 107  # a new random stream: every older stream is unchanged
+_INCLUSION_SAMPLES = (  # phase label, eruption date, sample, level per inclusion
+    ("phase 1", "2023-06-20", "S23-06", ("shallow",) * 8),
+    ("phase 1", "2023-10-05", "S23-10", ("shallow",) * 8),
+    ("phase 2", "2024-07-15", "S24-07", ("shallow",) * 4 + ("deep",) * 5),
+    ("phase 2", "2024-10-28", "S24-10", ("shallow",) * 3 + ("deep",) * 6),
+)
+_RHYOLITE_GLASS = {"SiO2": 76.2, "TiO2": 0.12, "Al2O3": 12.9, "FeO": 1.0, "MgO": 0.12, "CaO": 0.9, "Na2O": 3.9,
+                   "K2O": 3.4}
+
+
+def _level_depth_bsl_m(pressure_mpa: float) -> float:
+    return pressure_mpa * 1e6 / (DRE_DENSITY_KG_M3 * 9.80665) - SUMMIT_ELEVATION_M
+
+
+def inclusion_truth() -> dict:
+    """The true storage levels and S populations behind ``melt_inclusions.csv``."""
+    return {
+        "model": "Liu et al. (2005), ideal H2O-CO2 fluid", "temperature_c": INCLUSION_TEMPERATURE_C,
+        "crust_density_kg_m3": DRE_DENSITY_KG_M3, "vent_elevation_m": SUMMIT_ELEVATION_M,
+        "depth_datum": "m below sea level, positive down",
+        "levels": {k: {**v, "depth_bsl_m": round(_level_depth_bsl_m(v["pressure_mpa"]), 1)}
+                   for k, v in INCLUSION_LEVELS.items()},
+        "phases": {"phase 1": ["shallow"], "phase 2": ["shallow", "deep"]},
+        "pressure_scatter_rel_1sigma": 0.06,
+        "s_melt_inclusion_mean_ppm": PETROLOGY["sulfur_melt_inclusion_ppm"],
+        "s_matrix_glass_mean_ppm": PETROLOGY["sulfur_matrix_glass_ppm"],
+        "note": "sample means of S are set to the suggested petrology defaults; analytical noise H2O 0.15 wt%, "
+                "CO2 6 % (1 sigma)",
+    }
+
+
+def _write_inclusions(sc: Scenario, out: Path) -> Path:
+    from degas.analysis.petrology import liu_dissolved
+
+    rng = _rng(sc.seed, INCLUSION_STREAM)
+    rows = []
+    s_mi, s_mg = [], []
+    for phase, date, sample, levels in _INCLUSION_SAMPLES:
+        for k, level in enumerate(levels):
+            lv = INCLUSION_LEVELS[level]
+            p = lv["pressure_mpa"] * math.exp(rng.normal(0.0, 0.06))
+            x = float(np.clip(lv["x_h2o_fluid"] + rng.normal(0.0, 0.03), 0.3, 0.99))
+            h, c = liu_dissolved(x * p, (1 - x) * p, INCLUSION_TEMPERATURE_C + 273.15)
+            h_obs = float(h) + rng.normal(0.0, 0.15)
+            c_obs = float(c) * (1 + rng.normal(0.0, 0.06))
+            host = "plagioclase" if k % 3 else "hornblende"
+            rows.append([sample, f"MI{k + 1}", date, phase, host, "melt inclusion", h_obs, 0.15, c_obs,
+                         0.06 * c_obs, None, rng.normal(1900, 120)])
+            s_mi.append(len(rows) - 1)
+        for k in range(2):
+            rows.append([sample, f"G{k + 1}", date, phase, "", "matrix glass", rng.uniform(0.1, 0.3), 0.05, None,
+                         None, None, rng.normal(1100, 100)])
+            s_mg.append(len(rows) - 1)
+        if phase == "phase 2":
+            rows.append([sample, "E1", date, phase, "plagioclase", "embayment", 2.4 + rng.normal(0, 0.2), 0.15,
+                         120.0 * (1 + rng.normal(0, 0.1)), 10.0, None, rng.normal(1500, 100)])
+    for idx, mean, sd in ((s_mi, PETROLOGY["sulfur_melt_inclusion_ppm"], 150.0),
+                          (s_mg, PETROLOGY["sulfur_matrix_glass_ppm"], 50.0)):
+        noise = rng.normal(0.0, sd, len(idx))
+        for i, v in zip(idx, mean + noise - noise.mean(), strict=True):
+            rows[i][10] = v
+    for r in rows:  # embayments: S between inclusion and matrix-glass values
+        if r[10] is None:
+            r[10] = 700.0 + rng.normal(0, 80)
+    head = ("Sample,Spot,Eruption date,Phase,Host mineral,Type,H2O (wt%),H2O 1σ (wt%),CO2 (ppm),CO2 1σ (ppm),"
+            "S (µg/g),Cl (mg/kg)," + ",".join(_RHYOLITE_GLASS) + ",Total")
+    lines = [head]
+    for r in rows:
+        ox = {k: v * (1 + rng.normal(0, 0.01)) for k, v in _RHYOLITE_GLASS.items()}
+        total = sum(ox.values()) * (1 - r[6] / 100) - 0.3 + rng.normal(0, 0.4)
+        scale = total / sum(ox.values())
+        cells = [r[0], r[1], r[2], r[3], r[4], r[5], f"{r[6]:.2f}", f"{r[7]:.2f}",
+                 "" if r[8] is None else f"{r[8]:.0f}", "" if r[9] is None else f"{r[9]:.0f}",
+                 f"{r[10]:.0f}", f"{r[11]:.0f}", *(f"{v * scale:.2f}" for v in ox.values()), f"{total:.2f}"]
+        lines.append(",".join(cells))
+    return _write_text(out / "melt_inclusions.csv", "\n".join(lines) + "\n")
 
 
 def _write_truth(sc: Scenario, out: Path, written: dict) -> Path:
     truth = dict(sc.truth)
+    truth["melt_inclusions"] = inclusion_truth()
     truth["files"] = written
     return _write_text(out / "truth.json", json.dumps(truth, indent=2, ensure_ascii=False) + "\n")
 
@@ -1104,6 +1197,9 @@ def _file_facts(sc: Scenario, out: Path) -> dict:
                                             "note": "daily estimates; the lag per coupled phase is recoverable "
                                                     "against daily SO2"},
         "rsam_VLM1_hourly.csv": {"unit": "counts", "gap": ["2024-03-03T00:00Z", "2024-03-08T06:00Z"]},
+        "melt_inclusions.csv": {"n_inclusions": sum(len(x[3]) for x in _INCLUSION_SAMPLES),
+                                "n_matrix_glass": 2 * len(_INCLUSION_SAMPLES), "n_embayments": 2,
+                                "units": {"H2O": "wt%", "CO2": "ppm", "S": "µg/g", "Cl": "mg/kg"}},
     }
 
 
@@ -1133,6 +1229,7 @@ def write_demo(out_dir: Path, seed: int = DEFAULT_SEED) -> list[Path]:
         _write_quakeml(sc, out),
         _write_local_catalog(sc, out),
         _write_rsam(sc, out),
+        _write_inclusions(sc, out),
     ]
     paths.append(_write_truth(sc, out, _file_facts(sc, out)))
     paths.append(_write_text(out / "demo_ingest.toml", INGEST_TOML))
@@ -1302,6 +1399,13 @@ below 1 during sealing; `truth.json` lists the exact factors, change dates, lags
   roll-off below it.
 - `rsam_VLM1_hourly.csv` - hourly RSAM-style amplitude (counts) at VLM1; rises during sealing, peaks
   at the explosion; a 5-day station outage in March 2024.
+- `melt_inclusions.csv` - microprobe/FTIR-style analyses of melt inclusions (in plagioclase and
+  hornblende), embayments and matrix glass from dome samples of eruptive phases 1 and 2: H2O (wt%) with
+  1σ, CO2 (ppm) with 1σ, S (µg/g), Cl (mg/kg), major oxides and the analytical total. Phase 1 magma was
+  stored at one level (~135 MPa, ~3 km below sea level); phase 2 also tapped a deeper, CO2-richer level
+  (~250 MPa, ~7.5 km), as the CO2/SO2 rise of the pause suggests; matrix glass is degassed (S ~200 µg/g,
+  H2O ~0.2 wt%). Volatile contents follow Liu et al. (2005) solubility at 850 °C; the levels are in
+  `truth.json` (`melt_inclusions`).
 - `truth.json` - the ground truth (phases, regimes, change dates, lags, b-values, volumes,
   excess-degassing factors, messiness facts per file, seed and generator version).
 - `demo_ingest.toml` - the per-file ingest options (`[[file]]` tables) used by `degas demo`.

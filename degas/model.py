@@ -39,6 +39,7 @@ KINDS: tuple[str, ...] = (
     "amplitude",
     "other",
     "event_counts",
+    "melt_inclusions",
 )
 
 #: Canonical (stored) unit per kind, as pint spellings. ``None``: the file's own unit is kept.
@@ -52,6 +53,7 @@ CANONICAL_UNIT: dict[str, str | None] = {
     "amplitude": None,
     "other": None,
     "event_counts": None,
+    "melt_inclusions": "kg/kg",
 }
 
 #: Unit shown to people, per kind.
@@ -65,6 +67,7 @@ DISPLAY_UNIT: dict[str, str | None] = {
     "amplitude": None,
     "other": None,
     "event_counts": None,
+    "melt_inclusions": "ppm",
 }
 
 #: Event classes of volcano seismology (volcano-tectonic, long-period, ...).
@@ -238,9 +241,36 @@ class EventCatalog(_Record):
 
 Record = TimeSeries | Chronology | EventCatalog
 
+#: Analysis types of a melt-inclusion table row.
+ANALYSIS_TYPES: tuple[str, ...] = ("inclusion", "matrix_glass", "embayment")
+#: Major oxides kept from melt-inclusion tables (stored as mass fractions, column ``<oxide>_frac``).
+OXIDES: tuple[str, ...] = ("SiO2", "TiO2", "Al2O3", "Fe2O3", "FeO", "MnO", "MgO", "CaO", "Na2O", "K2O", "P2O5")
+#: Volatiles of a melt-inclusion table, stored as mass fractions (kg/kg) with 1-sigma columns.
+INCLUSION_VOLATILES: tuple[str, ...] = ("h2o", "co2", "s", "cl")
+INCLUSION_COLUMNS = (
+    "time", "phase", "sample_id", "analysis_id", "host", "analysis_type",
+    *(c for v in INCLUSION_VOLATILES for c in (f"{v}_frac", f"{v}_sd_frac")),
+    *(f"{o.lower()}_frac" for o in OXIDES),
+    "oxide_total_frac",
+)
+
+
+@dataclass(frozen=True)
+class MeltInclusions(_Record):
+    """Melt-inclusion, embayment and matrix-glass analyses, one row each.
+
+    ``time`` is the eruption (or sampling) date, NaT when only a phase is given; ``phase`` is the
+    eruptive phase label; volatiles and oxides are mass fractions (kg/kg, SI; 1 wt% = 0.01,
+    1 ppm = 1e-6) with NaN when not measured; ``*_sd_frac`` are analytical 1-sigma values.
+    """
+
+    COLUMNS: ClassVar[tuple[str, ...]] = INCLUSION_COLUMNS
+
+
 RECORD_TYPE_FOR_KIND: dict[str, type] = {
     "chronology": Chronology,
     "seismic_catalog": EventCatalog,
+    "melt_inclusions": MeltInclusions,
 }
 
 

@@ -56,6 +56,7 @@ class RunBundle:
     timings: list[tuple[str, float]] = field(default_factory=list)
     skipped: list[str] = field(default_factory=list)
     notes: list[str] = field(default_factory=list)
+    depths: object | None = None  # degas.depths.DepthContext: inclusion storage depths beside VT depths
 
 
 def _pick(entries: list[SeriesEntry], kind: str, prefer_species: str | None = None) -> list[SeriesEntry]:
@@ -127,7 +128,8 @@ def run_all(archive: Archive, project: Project, *, mode: str = "weekly", before:
     if not roles["gas"] and roles["magma"] is None and roles["catalog"] is None and not roles.get("counts"):
         raise DegasError(f"{archive.root}: no gas, magma-output or seismic series to analyse")
     inv = [entry_display(e) for e in archive.entries()]
-    spans = [(pd.Timestamp(r["first"]), pd.Timestamp(r["last"])) for r in inv if r["first"]]
+    spans = [(pd.Timestamp(r["first"]), pd.Timestamp(r["last"])) for r in inv
+             if r["first"] and r["kind"] != "melt_inclusions"]  # inclusion dates do not set the run span
     data_start = min(s for s, _ in spans)
     data_end = max(e for _, e in spans)
     assumptions = sorted({a for e in archive.entries() for p in e.provenance for a in p.assumptions})
@@ -172,6 +174,7 @@ def run_all(archive: Archive, project: Project, *, mode: str = "weekly", before:
     step("cross-correlation", lambda: _xcorr(b))
     step("rolling coupling", lambda: _rolling(b))
     step("Granger tests", lambda: _granger(b))
+    step("storage depths", lambda: _depths(archive, b))
     step("gas budget", lambda: _budget(b))
     step("seismicity", lambda: _seismicity(b))
     step("weekly review", lambda: _review(b))
@@ -399,11 +402,22 @@ def _budget(b: RunBundle) -> None:
     elif "gas" in b.changepoints:
         seg = b.changepoints["gas"].segments[["start", "end"]]
     petro = b.project.petrology
+    from degas.depths import inclusion_petrology
+
+    if inclusion_petrology(b.depths) is not None:  # S populations of the inclusions beat three typed numbers
+        petro = inclusion_petrology(b.depths)
+        b.notes.append(f"petrological SO2 from the inclusions: {petro.source}")
     unc = b.aligned.frame.get("magma_uncertainty")
     b.budget = gas_budget(g, q, so2_uncertainty=b.aligned.frame["gas_uncertainty"], extrusion_uncertainty=unc,
                           segments=seg, petrology=petro, seed=b.project.seed)
     if "ratio" in b.aligned.kinds:
         b.co2 = co2_flux(g, b.aligned.series("ratio"), max_gap="7D")
+
+
+def _depths(archive: Archive, b: RunBundle) -> None:
+    from degas.depths import depth_context
+
+    b.depths = depth_context(archive, b.project, b.roles["catalog"], b.roles["chronology"], b.regimes)
 
 
 def _seismicity(b: RunBundle) -> None:

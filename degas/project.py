@@ -45,6 +45,14 @@ With it the weekly run is one command (``degas report ARCHIVE --project velmarra
     window_days = 7
     baseline_days = 90
 
+    [inclusions]                  # melt-inclusion storage depths (degas.analysis.petrology)
+    model = "Liu"                 # Liu et al. (2005); VESIcal models need degas[petrology]
+    temperature_c = [825, 875]    # one value or [low, high], drawn uniformly in the Monte Carlo
+    crust_density_kg_m3 = 2600    # or crust_layers = [[0, 2300], [2000, 2700]] (top below vent m, kg/m³)
+    vent_elevation_m = 2350
+    hypocentre_datum = "sea_level"   # or "vent": where the catalogue's depths are measured from
+    crystal_fraction = 0.40       # with dense_density_kg_m3: the budget from the inclusions' S (Devine 1984)
+
     [[file]]                      # optional: files ingested before each weekly or report run (files already in
                                   # the archive are skipped by SHA-256), with reader options as in a mapping file
     path = "exports/so2_north.csv"
@@ -70,6 +78,101 @@ _PETROLOGY_KEYS = {
     "dense_density_kg_m3": "density_kg_m3", "dense_density_sd_kg_m3": "density_sd",
     "crystal_fraction": "crystal_fraction", "crystal_fraction_sd": "crystal_fraction_sd",
 }
+
+
+@dataclass(frozen=True)
+class InclusionSettings:
+    """[inclusions]: melt-inclusion storage depths and the petrological budget from the inclusions (issue 14).
+
+    model / alt_model : solubility model names (degas.analysis.petrology.model_names); alt_model shows the spread.
+    temperature_c : one temperature or [low, high], °C; phase_temperatures_c : phase -> the same, per phase.
+    crust_density_kg_m3 or crust_layers ([[top depth below vent m, kg/m³], ...]); vent_elevation_m (m a.s.l.).
+    hypocentre_datum : "sea_level" (catalogue depths below sea level) or "vent" (below the vent).
+    dense_density_kg_m3, crystal_fraction (+ _sd): Devine et al. (1984) inputs for the budget.
+    """
+
+    series: str | None = None
+    model: str = "Liu"
+    alt_model: str | None = None
+    temperature_c: float | tuple[float, float] = 850.0
+    phase_temperatures_c: dict = field(default_factory=dict)
+    crust_layers: tuple[tuple[float, float], ...] = ((0.0, 2600.0),)
+    vent_elevation_m: float = 0.0
+    hypocentre_datum: str = "sea_level"
+    draws: int = 500
+    bootstrap: int = 2000
+    dense_density_kg_m3: float = 2600.0
+    dense_density_sd_kg_m3: float = 0.0
+    crystal_fraction: float = 0.0
+    crystal_fraction_sd: float = 0.0
+    budget_from_inclusions: bool = True
+    stated: bool = False  # False: defaults, not read from a project file
+
+    def crust(self):
+        from degas.analysis.petrology import CrustModel
+
+        return CrustModel(tuple(self.crust_layers), self.vent_elevation_m)
+
+
+_INCLUSION_KEYS = ("series", "model", "alt_model", "temperature_c", "phase_temperatures_c", "crust_density_kg_m3",
+                   "crust_layers", "vent_elevation_m", "hypocentre_datum", "draws", "bootstrap",
+                   "dense_density_kg_m3", "dense_density_sd_kg_m3", "crystal_fraction", "crystal_fraction_sd",
+                   "budget_from_inclusions")
+
+
+def _inclusion_settings(t: dict, where: str) -> InclusionSettings:
+    """Validate an [inclusions] table."""
+    from degas.analysis.petrology import CrustModel, check_model
+    from degas.errors import DegasError
+
+    if not isinstance(t, dict):
+        raise ConfigError(f"{where}: [inclusions] must be a table")
+    bad = sorted(set(t) - set(_INCLUSION_KEYS))
+    if bad:
+        raise ConfigError(f"{where}: unknown key(s) {bad} in [inclusions]; valid: {', '.join(sorted(_INCLUSION_KEYS))}")
+    kw = dict(t)
+    kw["stated"] = True
+
+    def temp(v, key):
+        if isinstance(v, int | float) and not isinstance(v, bool):
+            return float(v)
+        if isinstance(v, list) and len(v) == 2 and all(isinstance(x, int | float) for x in v) and v[0] <= v[1]:
+            return (float(v[0]), float(v[1]))
+        raise ConfigError(f"{where}: [inclusions] {key} must be a temperature in °C or [low, high], got {v!r}")
+
+    try:
+        for k in ("model", "alt_model"):
+            if k in kw:
+                check_model(kw[k])
+        if "temperature_c" in kw:
+            kw["temperature_c"] = temp(kw["temperature_c"], "temperature_c")
+        if "phase_temperatures_c" in kw:
+            kw["phase_temperatures_c"] = {str(p): temp(v, f"phase_temperatures_c.{p}")
+                                          for p, v in dict(kw["phase_temperatures_c"]).items()}
+        if "crust_density_kg_m3" in kw:
+            if "crust_layers" in kw:
+                raise ConfigError(f"{where}: [inclusions] give crust_density_kg_m3 or crust_layers, not both")
+            kw["crust_layers"] = ((0.0, float(kw.pop("crust_density_kg_m3"))),)
+        if "crust_layers" in kw:
+            kw["crust_layers"] = tuple((float(a), float(b)) for a, b in kw["crust_layers"])
+        if kw.get("hypocentre_datum", "sea_level") not in ("sea_level", "vent"):
+            raise ConfigError(f"{where}: [inclusions] hypocentre_datum must be sea_level or vent")
+        for k in ("vent_elevation_m", "dense_density_kg_m3", "dense_density_sd_kg_m3", "crystal_fraction",
+                  "crystal_fraction_sd"):
+            if k in kw:
+                kw[k] = float(kw[k])
+        for k in ("draws", "bootstrap"):
+            if k in kw and (not isinstance(kw[k], int) or kw[k] < 10):
+                raise ConfigError(f"{where}: [inclusions] {k} must be a whole number of at least 10")
+        if not 0 <= kw.get("crystal_fraction", 0.0) < 1:
+            raise ConfigError(f"{where}: [inclusions] crystal_fraction must be in [0, 1)")
+        out = InclusionSettings(**kw)
+        CrustModel(out.crust_layers, out.vent_elevation_m)
+    except (TypeError, ValueError, DegasError) as exc:
+        if isinstance(exc, ConfigError):
+            raise
+        raise ConfigError(f"{where}: [inclusions]: {exc}") from None
+    return out
 
 
 @dataclass(frozen=True)
@@ -106,6 +209,7 @@ class Project:
     b_window_events: int = 200
     files: tuple[dict, ...] = field(default=())
     seed: int = 0
+    inclusions: InclusionSettings = field(default_factory=InclusionSettings)
 
     def parameters(self) -> dict:
         """Every parameter as plain values, for the methods section of the report."""
@@ -154,7 +258,7 @@ _TYPES: dict[str, tuple[type, ...]] = {
 
 
 def project_from_dict(raw: dict, where: str = "project") -> Project:
-    known = set(_SECTIONS) | {"petrology", "file"}
+    known = set(_SECTIONS) | {"petrology", "file", "inclusions"}
     unknown = sorted(set(raw) - known)
     if unknown:
         raise ConfigError(f"{where}: unknown section(s) {unknown}; valid: {', '.join(sorted(known))}")
@@ -221,6 +325,8 @@ def project_from_dict(raw: dict, where: str = "project") -> Project:
             values["petrology"] = PetrologyInputs.from_ppm(kw.pop("s_mi_ppm"), kw.pop("s_mg_ppm"), **kw)
         except (TypeError, ValueError, DegasError) as exc:
             raise ConfigError(f"{where}: [petrology]: {exc}") from None
+    if "inclusions" in raw:
+        values["inclusions"] = _inclusion_settings(raw["inclusions"], where)
     if "file" in raw:
         from degas.io.mapping import options_from_dict
 

@@ -68,6 +68,15 @@ _KEYS = {"TimeSeries": ["time", "end"], "Chronology": ["start"], "EventCatalog":
 _COMPARE = {"TimeSeries": ["value", "uncertainty", "quality"], "Chronology": ["end", "state", "style", "note"],
             "EventCatalog": ["time", "latitude_deg", "longitude_deg", "depth_m", "magnitude", "magnitude_type",
                              "event_class"]}
+# melt-inclusion tables (issue 14): one row per analysis, keyed by analysis id
+from degas.model import INCLUSION_COLUMNS, MeltInclusions  # noqa: E402
+
+_DTYPES["MeltInclusions"] = {c: ("datetime64[ns, UTC]" if c == "time" else "float64" if c.endswith("_frac")
+                                 else "string") for c in INCLUSION_COLUMNS}
+_TYPES["MeltInclusions"] = MeltInclusions
+_COLUMNS["MeltInclusions"] = INCLUSION_COLUMNS
+_KEYS["MeltInclusions"] = ["analysis_id"]
+_COMPARE["MeltInclusions"] = [c for c in INCLUSION_COLUMNS if c != "analysis_id"]
 
 
 def conform(df: pd.DataFrame, record_type: str) -> pd.DataFrame:

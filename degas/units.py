@@ -37,6 +37,8 @@ _REWRITES: tuple[tuple[str, str], ...] = (
     (r"\btpd\b", "t/d"),
     (r"\btons?\s*/\s*day\b", "__ambiguous_ton__"),
     (r"\btons?\b", "__ambiguous_ton__"),
+    (r"\bwt\.?\s*%|\bweight\s*%|\bmass\s*%", "percent"),
+    (r"\bppmw\b", "ppm"),
     (r"\bm³", "m**3"),
     (r"\bm²", "m**2"),
     (r"\bmin\b", "minute"),

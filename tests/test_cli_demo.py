@@ -16,19 +16,19 @@ def test_demo_builds_the_archive_and_prints_the_inventory(tmp_path, capsys):
     arc = tmp_path / "demo-archive"
     assert run(["demo", "--archive", str(arc), "--out", str(tmp_path / "reports")]) == 0
     out = capsys.readouterr().out
-    assert "degas archive" in out and "9 series from 9 file(s)" in out
+    assert "degas archive" in out and "10 series from 10 file(s)" in out
     (report,) = (tmp_path / "reports").glob("degas-velmarra-episode-*.html")
     assert f"report: {report}" in out and "possible sealing" in out
     a = Archive.open(arc)
     kinds = sorted({e.meta.kind for e in a.entries()})
     assert kinds == ["amplitude", "chronology", "erupted_volume", "extrusion_rate", "gas_flux", "gas_ratio",
-                     "seismic_catalog"]
+                     "melt_inclusions", "seismic_catalog"]
     # the dome surveys were bulk with a stated vesicularity: stored as DRE, and the provenance says how
     (vol,) = a.find(kind="erupted_volume")
     assert vol.meta.volume_basis == "dre"
     assert any("vesicularity 0.15" in x for p in vol.provenance for x in p.assumptions)
     # every demo file is recorded with its SHA-256
-    assert len(a.sources()) == 9 and all(len(sha) == 64 for sha in a.sources())
+    assert len(a.sources()) == 10 and all(len(sha) == 64 for sha in a.sources())
     # a second run rebuilds from scratch and gives the same manifest series
     before = json.loads((arc / "manifest.json").read_text())["series"].keys()
     assert run(["demo", "--archive", str(arc), "--out", str(tmp_path / "reports")]) == 0

@@ -87,6 +87,37 @@ class PetrologyInputs:
         return SO2_PER_S * np.clip(smi - smg, 0, None) * rho * (1.0 - phi)
 
 
+@dataclass(frozen=True, eq=False)
+class SampledPetrology:
+    """Petrological SO2 per m³ DRE given as draws rather than as three typed numbers.
+
+    Made from a bootstrap over inclusion and matrix-glass S analyses
+    (:func:`degas.analysis.petrology.sulfur_budget`); :func:`gas_budget` takes it wherever it takes
+    :class:`PetrologyInputs` and resamples the draws, so the excess-degassing ratio carries their spread.
+
+    draws_kg_m3 : SO2 per m³ DRE erupted, kg/m³, one value per draw.
+    source : one line saying where the draws come from (shown in the notes).
+    """
+
+    draws_kg_m3: np.ndarray
+    source: str = ""
+
+    def __post_init__(self) -> None:
+        d = np.asarray(self.draws_kg_m3, dtype="float64")
+        if d.size == 0 or not np.isfinite(d).all() or (d < 0).any():
+            raise DegasError("petrological SO2 draws must be finite, non-negative and not empty")
+
+    @property
+    def so2_per_m3(self) -> float:
+        """Median of the draws, kg SO2 per m³ DRE."""
+        return float(np.median(self.draws_kg_m3))
+
+    def sample_so2_per_m3(self, n: int = 10_000, seed: int | np.random.Generator | None = 0) -> np.ndarray:
+        """``n`` draws resampled with replacement (kg/m³)."""
+        rng = seed if isinstance(seed, np.random.Generator) else np.random.default_rng(seed)
+        return rng.choice(np.asarray(self.draws_kg_m3, dtype="float64"), n, replace=True)
+
+
 def petrological_so2_mass(volume_dre_m3: float, inputs: PetrologyInputs) -> float:
     """Expected SO2 mass (kg) from degassing ``volume_dre_m3`` of erupted magma (Devine et al. 1984)."""
     return volume_dre_m3 * inputs.so2_per_m3

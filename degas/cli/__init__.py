@@ -9,6 +9,7 @@ from __future__ import annotations
 import sys
 
 # Command modules register on import; keep this list in sync with the files in this folder.
+import degas.cli.depth_cmds  # noqa: E402,F401  (issue 14: degas depths)
 from degas.cli import archive_cmds, change_cmds, coupling_cmds, report_cmds, seismic_cmds  # noqa: E402,F401
 from degas.cli._app import app, console  # noqa: F401
 

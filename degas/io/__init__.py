@@ -45,7 +45,7 @@ def _lazy(module: str, func: str) -> Callable:
 
 
 TABLE_KINDS = ("gas_flux", "gas_ratio", "extrusion_rate", "erupted_volume", "chronology", "seismic_catalog",
-               "amplitude", "other", "event_counts")
+               "amplitude", "other", "event_counts", "melt_inclusions")
 
 #: Registry in detection order: strict formats first, the loose delimited-text reader last.
 FORMATS: tuple[Format, ...] = (

@@ -200,3 +200,54 @@ def volume_basis_in(header: Header) -> str | None:
     if re.search(r"\bbulk\b", w):
         return "bulk"
     return None
+
+
+# --------------------------------------------------------------------------- melt-inclusion tables (issue 14)
+
+#: Header aliases of the descriptive columns of a melt-inclusion table (kind ``melt_inclusions``).
+INCLUSION_ALIASES: dict[str, tuple[str, ...]] = {
+    "sample_id": ("sample", "sample id", "sample name", "sample no", "specimen", "sample code", "muestra"),
+    "analysis_id": ("analysis id", "spot", "spot id", "inclusion", "inclusion id", "mi", "mi id", "point",
+                    "analysis no", "id", "label", "name"),
+    "phase": ("phase", "eruption phase", "eruptive phase", "episode", "eruption", "stage", "fase"),
+    "time": ("date", "eruption date", "sample date", "sampling date", "collected", "date collected", "time",
+             "datetime", "erupted", "fecha"),
+    "host": ("host", "host mineral", "mineral", "host phase", "phenocryst", "crystal"),
+    "analysis_type": ("type", "analysis type", "material", "glass type", "kind of analysis", "setting", "context",
+                      "tipo"),
+}
+
+#: Volatile names in headers ("H2O", "H2Ot", "CO2", "S", "sulfur", "SO3", "Cl", "chlorine").
+INCLUSION_VOLATILE_WORDS: dict[str, tuple[str, ...]] = {
+    "h2o": ("h2o", "h2ot", "h2o t", "water", "h2o total"),
+    "co2": ("co2", "co2t", "co2 total", "carbon dioxide"),
+    "s": ("s", "sulfur", "sulphur", "s total", "st", "so3"),
+    "cl": ("cl", "chlorine"),
+}
+#: Words that mark a 1-sigma column ("H2O 1σ", "co2_sd", "S err").
+SIGMA_WORDS = ("sd", "1sd", "1 sd", "sigma", "1 sigma", "1sigma", "1σ", "σ", "err", "error", "unc", "uncertainty",
+               "±", "+/-", "stdev", "std", "s d")
+
+
+def inclusion_column(header: Header) -> tuple[str, str] | None:
+    """What a melt-inclusion table column holds: ("volatile", "h2o"), ("sigma", "co2"), ("oxide", "SiO2"),
+    ("total", ""), (role, "") for the descriptive roles, or None."""
+    from degas.model import OXIDES
+
+    name = header.name.replace("σ", " σ").strip()
+    words = name.split()
+    for role, aliases in INCLUSION_ALIASES.items():
+        if name in aliases:
+            return role, ""
+    if name in ("total", "sum", "oxide total", "total oxides", "analytical total"):
+        return "total", ""
+    sigma = any(w in SIGMA_WORDS for w in words) or any(t in SIGMA_WORDS or "sigma" in t for t in header.tags)
+    core = " ".join(w for w in words if w not in SIGMA_WORDS and w not in ("1", "2"))
+    for vol, names in INCLUSION_VOLATILE_WORDS.items():
+        if core in names:
+            return ("sigma", vol) if sigma else ("volatile", vol)
+    oxide_names = {o.lower(): o for o in OXIDES}
+    oxide_names.update({"feot": "FeO", "feo t": "FeO", "feo*": "FeO", "feo total": "FeO", "fe2o3t": "Fe2O3"})
+    if core in oxide_names and not sigma:
+        return "oxide", oxide_names[core]
+    return None

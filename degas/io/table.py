@@ -642,8 +642,13 @@ def read_table(path: Path, options: ReadOptions, fmt: str) -> ReadResult:
     if raw.frame.empty:
         raise InputError(source, "no data rows (header only)" if not raw.rejects else
                          f"no usable data rows ({len(raw.rejects)} malformed)")
-    plan = plan_columns(raw, options, source)
     reader = f"table/{fmt}"
+    from degas.io.inclusions import build_melt_inclusions, looks_like_inclusions
+
+    kind = options.kind or raw.meta.get("kind")
+    if kind == "melt_inclusions" or (kind is None and looks_like_inclusions(raw.frame.columns)):
+        return build_melt_inclusions(path, raw, options, reader)
+    plan = plan_columns(raw, options, source)
     if plan.kind == "chronology":
         result = _build_chronology(path, raw, plan, options, reader)
     elif plan.kind == "seismic_catalog":

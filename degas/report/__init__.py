@@ -16,6 +16,7 @@ import pandas as pd
 import degas
 from degas.report import figures as F
 from degas.report.cautions import STANDING_CAUTIONS
+from degas.report.depth_section import add_depth_section
 from degas.report.html import Page, esc, table_html
 from degas.report.summary import summarise
 from degas.report.tables import write_table
@@ -219,6 +220,7 @@ def render_report(bundle) -> tuple[str, dict]:
             "budget.csv.</p>")
     for sid, (heading, parts) in sections.items():
         page.add(sid, heading, "".join(parts))
+    add_depth_section(page, bundle)  # "Storage depth and gas source" (melt inclusions), when the run has them
     rev = []
     if "weekly_review" in tabs:
         wr = tabs["weekly_review"].drop(columns=["notes"])

@@ -80,6 +80,8 @@ def test_demo_report_renders_offline_in_chromium(demo_report, demo_bundle, tmp_p
     assert out["figures"], "no plotly figure on the page"
     for fid, n_svg in out["figures"]:
         assert n_svg >= 1, f"figure {fid} drew no SVG"
+    drawn = {fid for fid, n_svg in out["figures"] if n_svg >= 1}
+    assert {"fig-isobars", "fig-depth-time"} <= drawn  # the "Storage depth and gas source" section (issue 14)
     c = out["cautions"]
     assert c["display"] != "none" and c["visibility"] == "visible" and c["height"] > 50 and c["top"] < 400
     assert "not a forecast" in c["text"] and "civil-protection" in c["text"]
