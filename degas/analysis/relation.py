@@ -163,16 +163,27 @@ def huber_irls(x: np.ndarray, y: np.ndarray, *, intercept: bool = True, t: float
 
 
 def block_length(resid: np.ndarray, *, minimum: int = 7) -> tuple[int, float]:
-    """Bootstrap block length (days) from the residuals' lag-1 autocorrelation φ: 2·(1 + φ)/(1 − φ), ≥ minimum.
+    """Bootstrap block length (bins): twice the decorrelation length of ``resid``, at least ``minimum``.
 
-    Common practice (twice the AR(1) integral time scale); φ is clipped to [0, 0.95]. Returns (block, φ).
+    The decorrelation length is the first lag at which the autocorrelation falls below 1/e (the e-folding
+    time; common practice), which also covers smooth pulses whose lag-1 autocorrelation alone would
+    understate it. Returns (block, φ) with φ the lag-1 autocorrelation, clipped to [0, 0.95].
     """
     r = np.asarray(resid, dtype=float)
-    a, b = r[:-1], r[1:]
-    ok = np.isfinite(a) & np.isfinite(b)
-    phi = float(np.corrcoef(a[ok], b[ok])[0, 1]) if ok.sum() > 3 and np.std(a[ok]) > 0 else 0.0
-    phi = float(np.clip(np.nan_to_num(phi), 0.0, 0.95))
-    return max(minimum, int(np.ceil(2.0 * (1 + phi) / (1 - phi)))), phi
+    r = r - np.nanmean(r) if np.isfinite(r).any() else r
+    ok = np.isfinite(r)
+    z = np.where(ok, r, 0.0)
+    n = int(ok.sum())
+    if n < 8 or not np.any(z):
+        return minimum, 0.0
+    c0 = float(np.dot(z, z))
+    acf = [1.0]
+    for k in range(1, max(2, n // 3)):
+        acf.append(float(np.dot(z[:-k], z[k:])) / c0)
+        if acf[-1] < np.exp(-1):
+            break
+    phi = float(np.clip(acf[1], 0.0, 0.95))
+    return max(minimum, 2 * (len(acf) - 1)), phi
 
 
 def block_indices(n: int, block: int, n_boot: int, rng: np.random.Generator) -> np.ndarray:
