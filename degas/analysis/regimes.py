@@ -355,9 +355,11 @@ def _wmedian(x: np.ndarray, w: np.ndarray) -> float:
     return float(x[o][np.searchsorted(cw, cw[-1] / 2)])
 
 
-def _label_pieces(p: pd.DataFrame, g0, k, se_fit, scale, phi, band, z, thr, independent, given) -> pd.DataFrame:
+def _label_pieces(p: pd.DataFrame, g0, k, se_fit, scale, phi, band, z, thr, independent, given,
+                  fraction=False) -> pd.DataFrame:
     p = p.copy()
-    pred = g0 + k * p["magma_lagged"].to_numpy()
+    # an eruptive fraction says on/off, not how much: gas is judged against the background band only
+    pred = g0 + (0.0 if fraction else k) * p["magma_lagged"].to_numpy()
     infl = (1 + phi) / (1 - phi)
     se = np.sqrt(np.asarray(se_fit) ** 2 + scale**2 * infl / p["n_days"].to_numpy())
     half = np.maximum(z * se, band * np.abs(pred))
@@ -366,6 +368,12 @@ def _label_pieces(p: pd.DataFrame, g0, k, se_fit, scale, phi, band, z, thr, inde
     above, below = G > pred + half, G < pred - half
     if independent:
         lab = np.where(~active & ~above & given, "quiet", "gas_only")
+    elif fraction:
+        lab = np.where(active, np.where(above, "coupled", "magma_only"), np.where(above, "gas_only", "quiet"))
+        p["predicted_kg_s"], p["band_low_kg_s"], p["band_high_kg_s"] = pred, pred - half, pred + half
+        p["label"] = lab
+        p["consistent"] = np.where(active, above, ~above & ~below)
+        return p
     else:
         lab = np.where(active, np.where(above, "gas_only", np.where(below, "magma_only", "coupled")),
                        np.where(above, "gas_only", "quiet"))
@@ -408,7 +416,10 @@ def classify_from_relation(
        magma_only; no output and gas not above the band → quiet. The band is the 95 % prediction interval of
        the piece mean (bootstrap error of the line, residual scale inflated for AR(1) autocorrelation, over
        the piece's days) widened to at least ``band`` × the prediction (a project default, not a published
-       value). With the verdict "gas independent of magma output" nothing is labelled coupled.
+       value). With the verdict "gas independent of magma output" nothing is labelled coupled. An eruptive
+       fraction says on/off, not how much: there gas is judged against the background band alone (eruptive
+       phase with gas above it → coupled, not above → magma_only; pause above → gas_only, else quiet), and the
+       starting background is the lower duration-weighted quartile of the pause levels.
 
     Parameters
     ----------
@@ -432,6 +443,7 @@ def classify_from_relation(
     g = gas.to_numpy(dtype=float)
     q = magma.to_numpy(dtype=float)
     notes: list[str] = []
+    fraction = magma_measure == "eruptive_fraction"
     given = gas_background is not None
     # 1. joint segments on the days both were observed, and the lag inside them
     ids = _joint_segments(g, q, index, magma_measure, min_segment, max_gap, penalty, thr)
@@ -454,15 +466,22 @@ def classify_from_relation(
         k = _wmedian((G[act] - g0) / Q[act], w[act]) if act.any() else 0.0
     else:
         k = k_w if np.isfinite(k_w) and k_w > 0 else np.nan
-        if not np.isfinite(k):
+        if fraction and (~act).any():
+            # background: the quieter inactive phases (lower duration-weighted quartile of their gas levels)
+            o = np.argsort(G[~act])
+            cw = np.cumsum(w[~act][o])
+            g0 = float(G[~act][o][np.searchsorted(cw, cw[-1] / 4)])
+            k = _wmedian(G[act], w[act]) - g0 if act.any() else 0.0
+        elif not np.isfinite(k):
             if act.any() and (~act).any() and np.ptp(Q) > 0:
                 k = (_wmedian(G[act], w[act]) - _wmedian(G[~act], w[~act])) / (
                     _wmedian(Q[act], w[act]) - _wmedian(Q[~act], w[~act]))
             else:
                 k = 0.0
-        g0 = _wmedian(G[act] - k * Q[act], w[act]) if act.any() else _wmedian(G, w)
+        if not (fraction and (~act).any()):
+            g0 = _wmedian(G[act] - k * Q[act], w[act]) if act.any() else _wmedian(G, w)
     scale = float(np.nanmedian(np.abs(g - g0 - k * qs)) / 0.6745)
-    lab = _label_pieces(p, g0, k, 0.0, scale, 0.0, band, z, thr, False, given)
+    lab = _label_pieces(p, g0, k, 0.0, scale, 0.0, band, z, thr, False, given, fraction)
     inl = lab["consistent"].to_numpy()
     rel = None
     for _ in range(8):
@@ -473,7 +492,7 @@ def classify_from_relation(
         except NotEnoughDataError:
             break
         lab = _label_pieces(p, rel.g0_kg_s, rel.k, 0.0, rel.residual_scale_kg_s, rel.residual_phi, band, z, thr,
-                            False, given)
+                            False, given, fraction)
         new = lab["consistent"].to_numpy()
         if (new == inl).all():
             break
@@ -487,7 +506,7 @@ def classify_from_relation(
                            n_boot=n_boot, min_r2=min_r2, petrology=petrology, seed=seed)
         notes.append("the consistent pieces alone do not vary in output: the relation is fitted on every day")
     lab = _label_pieces(p, rel.g0_kg_s, rel.k, rel.predict_se(Q), rel.residual_scale_kg_s, rel.residual_phi,
-                        band, z, thr, rel.independent, given)
+                        band, z, thr, rel.independent, given, fraction)
     # 3. the lag inside the coupled stretches (segment means removed), with its bootstrap interval
     lags = None
     if magma_measure != "eruptive_fraction" and not rel.independent and (lab["label"] == "coupled").any():
@@ -503,7 +522,7 @@ def classify_from_relation(
                    f"(within-segment k interval {lags.k_within_ci[0]:.3g} to {lags.k_within_ci[1]:.3g} includes 0)")
             rel = dataclasses.replace(rel, verdict=INDEPENDENT, notes=rel.notes + (why,))
             lab = _label_pieces(p, rel.g0_kg_s, rel.k, rel.predict_se(Q), rel.residual_scale_kg_s,
-                                rel.residual_phi, band, z, thr, True, given)
+                                rel.residual_phi, band, z, thr, True, given, fraction)
             lags = None
     if given:
         notes.append(f"gas background given: {rel.g0_kg_s * KG_S_TO_T_D:.4g} t/d")
@@ -533,8 +552,9 @@ def _intervals(lab, g, q, qs, index, step, rel, thr, unit, band) -> pd.DataFrame
         w = grp["n_days"].to_numpy(dtype=float)
         lo = float(np.sum(w * grp["band_low_kg_s"]) / w.sum())
         hi = float(np.sum(w * grp["band_high_kg_s"]) / w.sum())
+        pr = float(np.sum(w * grp["predicted_kg_s"]) / w.sum())
         rows.append({"start": a, "end": b, "label": grp["label"].iloc[0], "gas_kg_s": gm, "magma_level": qm,
-                     "magma_lagged": ql, "predicted_kg_s": rel.predict(ql) if np.isfinite(ql) else np.nan,
+                     "magma_lagged": ql, "predicted_kg_s": pr,
                      "band_low_kg_s": lo, "band_high_kg_s": hi, "n_days": int(grp["n_days"].sum())})
     df = pd.DataFrame(rows)
     # pieces touch: a short hole between them (missing days) belongs to the interval before it
