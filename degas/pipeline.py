@@ -103,9 +103,11 @@ def choose_roles(archive: Archive, project: Project) -> dict:
 
 
 def run_all(archive: Archive, project: Project, *, mode: str = "weekly", before: pd.Timestamp | None = None,
-            start: pd.Timestamp | None = None, end: pd.Timestamp | None = None, progress=None) -> RunBundle:
+            start: pd.Timestamp | None = None, end: pd.Timestamp | None = None, progress=None,
+            only: tuple[str, ...] | None = None) -> RunBundle:
     """Run every analysis. ``mode`` "weekly": review window before ``before`` (default: the day after the last
-    datum); "retrospective": the episode from ``start`` to ``end`` (default: the whole record)."""
+    datum); "retrospective": the episode from ``start`` to ``end`` (default: the whole record). ``only`` names
+    the steps to run after loading and aligning (the commands use it to print exactly what the report says)."""
     from degas.analysis.review import review_periods
 
     if mode not in ("weekly", "retrospective"):
@@ -141,6 +143,8 @@ def run_all(archive: Archive, project: Project, *, mode: str = "weekly", before:
                                    baseline_days=project.baseline_days)
 
     def step(name: str, fn) -> None:
+        if only is not None and name != "load and align" and name not in only:
+            return
         t0 = time.perf_counter()
         if progress:
             progress(name)

@@ -273,7 +273,8 @@ class RelationRegimeResult(RegimeResult):
     Extra attributes: ``relation`` (:class:`~degas.analysis.relation.RelationResult`), ``lags``
     (:class:`~degas.analysis.stretch_lags.StretchLagResult` inside the coupled stretches, or None),
     ``pieces`` (the joint segments with their own levels, prediction and label), ``band`` (relative floor of
-    the prediction band) and ``verdict`` (record level). ``intervals`` add predicted_t_d, band_low_t_d,
+    the prediction band), ``verdict`` (record level) and ``step_share`` (share of the gas and output variance
+    carried by the segment means). ``intervals`` add predicted_t_d, band_low_t_d,
     band_high_t_d and n_days; gas_t_d and magma_level are the data's own means over each interval.
     """
 
@@ -282,6 +283,12 @@ class RelationRegimeResult(RegimeResult):
     pieces: pd.DataFrame = field(default_factory=pd.DataFrame)
     band: float = 0.25
     verdict: str = ""
+    step_share: tuple[float, float] = (np.nan, np.nan)
+
+    @property
+    def steps_dominate(self) -> bool:
+        """Segment means carry most of the variance of both series: a whole-record CCF reflects regime steps."""
+        return bool(min(self.step_share) > 0.5)
 
 
 def _segment_ids(result, index: pd.DatetimeIndex) -> np.ndarray:
@@ -428,7 +435,7 @@ def classify_from_relation(
     magma_threshold : output counted as active at/above this (default 0.1 m³/s or fraction 0.5).
     """
     from degas.analysis.relation import INDEPENDENT, MAGMA_UNITS, _shift, fit_relation
-    from degas.analysis.stretch_lags import stretch_lags
+    from degas.analysis.stretch_lags import _step_share, stretch_lags
 
     if magma_measure not in MAGMA_UNITS:
         raise DegasError(f"unknown magma measure {magma_measure!r}; valid: {', '.join(MAGMA_UNITS)}")
@@ -536,7 +543,8 @@ def classify_from_relation(
         notes.append(f"{int(short.sum())} interval(s) shorter than 3 days; labels there rest on few samples")
     return RelationRegimeResult(iv, "eruptive_fraction" if magma_measure == "eruptive_fraction" else
                                 "extrusion_rate", float(rel.g0_kg_s), np.nan, thr, float(rel.k), 1 - band, 1 + band,
-                                tuple(notes), relation=rel, lags=lags, pieces=lab, band=band, verdict=rel.verdict)
+                                tuple(notes), relation=rel, lags=lags, pieces=lab, band=band, verdict=rel.verdict,
+                                step_share=(_step_share(g, ids), _step_share(q, ids)))
 
 
 def _intervals(lab, g, q, qs, index, step, rel, thr, unit, band) -> pd.DataFrame:
@@ -549,13 +557,15 @@ def _intervals(lab, g, q, qs, index, step, rel, thr, unit, band) -> pd.DataFrame
         gm = float(np.nanmean(g[sel])) if np.isfinite(g[sel]).any() else np.nan
         qm = float(np.nanmean(q[sel])) if np.isfinite(q[sel]).any() else np.nan
         ql = float(np.nanmean(qs[sel])) if np.isfinite(qs[sel]).any() else np.nan
+        qmed = float(np.nanmedian(qs[sel])) if np.isfinite(qs[sel]).any() else np.nan
         w = grp["n_days"].to_numpy(dtype=float)
         lo = float(np.sum(w * grp["band_low_kg_s"]) / w.sum())
         hi = float(np.sum(w * grp["band_high_kg_s"]) / w.sum())
         pr = float(np.sum(w * grp["predicted_kg_s"]) / w.sum())
         rows.append({"start": a, "end": b, "label": grp["label"].iloc[0], "gas_kg_s": gm, "magma_level": qm,
                      "magma_lagged": ql, "predicted_kg_s": pr,
-                     "band_low_kg_s": lo, "band_high_kg_s": hi, "n_days": int(grp["n_days"].sum())})
+                     "band_low_kg_s": lo, "band_high_kg_s": hi, "n_days": int(grp["n_days"].sum()),
+                     "magma_median": qmed})
     df = pd.DataFrame(rows)
     # pieces touch: a short hole between them (missing days) belongs to the interval before it
     nxt = df["start"].shift(-1)
@@ -565,7 +575,7 @@ def _intervals(lab, g, q, qs, index, step, rel, thr, unit, band) -> pd.DataFrame
     df["gas_t_d"] = df["gas_kg_s"] * KG_S_TO_T_D
     df["gas_to_baseline"] = df["gas_kg_s"] / rel.g0_kg_s if rel.g0_kg_s > 0 else np.nan
     with np.errstate(all="ignore"):
-        df["excess_ratio"] = np.where(df["magma_lagged"] >= thr, (df["gas_kg_s"] - rel.g0_kg_s) / df["magma_lagged"],
+        df["excess_ratio"] = np.where(df["magma_median"] >= thr, (df["gas_kg_s"] - rel.g0_kg_s) / df["magma_lagged"],
                                       np.nan)
         df["ratio_vs_expected"] = df["excess_ratio"] / rel.k if rel.k > 0 else np.nan
     df["predicted_t_d"] = df["predicted_kg_s"] * KG_S_TO_T_D
@@ -577,7 +587,8 @@ def _intervals(lab, g, q, qs, index, step, rel, thr, unit, band) -> pd.DataFrame
     df["evidence"] = [
         (f"gas {r.gas_t_d:.0f} t/d vs {r.predicted_t_d:.0f} t/d predicted (band {r.band_low_t_d:.0f}-"
          f"{r.band_high_t_d:.0f}) at magma output {r.magma_lagged:.3g} {unit} (lag {lag}); "
-         f"output {'active' if r.magma_lagged >= thr else 'not active'} (threshold {thr:g})"
+         f"output {'active' if r.magma_median >= thr else 'not active'} (median {r.magma_median:.3g}, "
+         f"threshold {thr:g})"
          + ("; record-level verdict: gas independent of magma output" if rel.independent else ""))
         for r in df.itertuples()]
     cols = ["start", "end", "duration_days", "label", "gas_t_d", "gas_kg_s", "magma_level", "magma_lagged",
