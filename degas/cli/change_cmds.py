@@ -48,12 +48,16 @@ def shifts(
     archive: Path = typer.Argument(..., help="Archive directory."),
     series: list[str] = typer.Argument(..., help="Series id(s); several ids are segmented jointly "
                                                  "(shared changes)."),
-    step: str | None = typer.Option(None, help="Grid step, e.g. '1D', '10min' (default: from the sampling)."),
+    project: Path | None = typer.Option(None, "--project", help="Project TOML: grid step, minimum segment, "
+                                                                "longest gap and penalty as in the report."),
+    step: str | None = typer.Option(None, help="Grid step, e.g. '1D', '10min' (default: project, else from the "
+                                               "sampling)."),
     min_segment: str | None = typer.Option(None, "--min-segment", help="Shortest segment, e.g. '3D' "
-                                                                       "(default 3 bins)."),
+                                                                       "(default: project, else 3 bins)."),
     max_gap: str | None = typer.Option(None, "--max-gap", help="Longest gap bridged; longer gaps split the "
-                                                               "signal (default 5 bins)."),
-    penalty: str = typer.Option("bic3", help="bic3, bic, mbic, or a number (per change, in units of σ²)."),
+                                                               "signal (default: project, else 5 bins)."),
+    penalty: str | None = typer.Option(None, help="bic3, bic, mbic, or a number (per change, in units of σ²; "
+                                                  "default: project, else bic3)."),
     method: str = typer.Option("exact", help="exact, pelt, binseg, window, dynp or kernel."),
     transform: str | None = typer.Option(None, help="log, anscombe or identity (default: by kind)."),
     noise: str = typer.Option("auto", help="Noise estimate: auto (autocorrelation-aware) or mad_diff."),
@@ -66,6 +70,15 @@ def shifts(
     from degas.model import TimeSeries
     from degas.store import Archive
 
+    if project is not None:
+        from degas.project import load_project
+
+        pj = load_project(project)
+        step = step or pj.step
+        min_segment = min_segment or pj.min_segment
+        max_gap = max_gap or pj.max_gap
+        penalty = penalty or str(pj.penalty)
+    penalty = penalty or "bic3"
     arc = Archive.open(archive)
     records = []
     for sid in series:

@@ -334,14 +334,17 @@ def regimes(
 @app.command("budget")
 def budget(
     archive_dir: Path = typer.Argument(..., help="Archive directory."),
+    project: Path | None = typer.Option(None, "--project", help="Project TOML: series, petrology and segments "
+                                                                "(the regimes) exactly as in the report."),
     gas: str | None = typer.Option(None, help="Series id of the SO2 flux (default: the only one)."),
     extrusion: str | None = typer.Option(None, help="Series id of the extrusion rate, or of cumulative survey "
                                                     "volumes (DRE) turned into rates (default: the only one)."),
     ratio: str | None = typer.Option(None, help="Series id of a CO2/SO2 molar ratio: adds the CO2 flux total."),
     ratio_max_gap: str = typer.Option("7D", help="Longest distance a ratio measurement is carried."),
-    step: str = typer.Option("1D", help="Grid step."),
-    min_coverage: float = typer.Option(0.3, help="Bins with less coverage (0-1) are missing (a daylight-only "
-                                                 "scanner covers about 0.4 of a day)."),
+    step: str | None = typer.Option(None, help="Grid step (default: project, else 1D)."),
+    min_coverage: float | None = typer.Option(None, help="Bins with less coverage (0-1) are missing (a "
+                                                         "daylight-only scanner covers about 0.4 of a day; default: "
+                                                         "project, else 0.3)."),
     segments: str = typer.Option("changepoints", help="'changepoints' (on the gas flux) or 'none'."),
     s_mi: float | None = typer.Option(None, help="S in melt inclusions, ppm (enables the petrological method)."),
     s_mi_sd: float = typer.Option(0.0, help="1-sigma of S in melt inclusions, ppm."),
@@ -361,22 +364,33 @@ def budget(
     from degas.analysis.budget import PetrologyInputs, co2_flux, gas_budget
 
     if segments not in ("changepoints", "none"):
-        raise DegasError(f"unknown segments option {segments!r}; valid: changepoints, none")
-    picks = {"gas": (gas, ("gas_flux",), "gas flux"),
-             "q": (extrusion, ("extrusion_rate", "erupted_volume"), "extrusion rate")}
-    if ratio is not None:
-        picks["ratio"] = (ratio, ("gas_ratio",), "gas ratio")
-    tab, entries = _aligned(archive_dir, picks, step, min_coverage)
-    g, q = tab.pair("gas", "q")
-    seg = _segments(g, "gas")[["start", "end"]] if segments == "changepoints" else None
+        raise DegasError(f"unknown --segments {segments!r}; valid: changepoints, none")
     petro = None
     if s_mi is not None:
         petro = PetrologyInputs.from_ppm(s_mi, s_mg, s_mi_sd_ppm=s_mi_sd, s_mg_sd_ppm=s_mg_sd, density_kg_m3=density,
                                          density_sd=density_sd, crystal_fraction=crystals,
                                          crystal_fraction_sd=crystals_sd)
-    res = gas_budget(g, q, so2_uncertainty=tab.frame["gas_uncertainty"], extrusion_uncertainty=None, segments=seg,
-                     petrology=petro, error_correlation=error_correlation, n_monte_carlo=n_mc, seed=seed)
-    t = Table(title=f"Gas budget: {entries['gas'].series_id} vs {entries['q'].series_id}")
+    if project is not None:  # the report's budget: regimes as segments, the project's petrology and series
+        b = _run_project(archive_dir, project, ("regimes", "gas budget"), gas=gas, magma=extrusion, step=step,
+                         min_coverage=min_coverage, petrology=petro)
+        if b.budget is None:
+            raise DegasError("; ".join(b.skipped) or "the budget could not be computed")
+        res, tab, petro = b.budget, b.aligned, b.project.petrology
+        title = f"Gas budget: {', '.join(b.roles['gas'])} vs {b.roles['magma']} (segments: the regimes)"
+        g = tab.series("gas")
+    else:
+        picks = {"gas": (gas, ("gas_flux",), "gas flux"),
+                 "q": (extrusion, ("extrusion_rate", "erupted_volume"), "extrusion rate")}
+        if ratio is not None:
+            picks["ratio"] = (ratio, ("gas_ratio",), "gas ratio")
+        tab, entries = _aligned(archive_dir, picks, step or "1D", 0.3 if min_coverage is None else min_coverage)
+        g, q = tab.pair("gas", "q")
+        seg = _segments(g, "gas")[["start", "end"]] if segments == "changepoints" else None
+        res = gas_budget(g, q, so2_uncertainty=tab.frame["gas_uncertainty"], extrusion_uncertainty=None,
+                         segments=seg, petrology=petro, error_correlation=error_correlation, n_monte_carlo=n_mc,
+                         seed=seed)
+        title = f"Gas budget: {entries['gas'].series_id} vs {entries['q'].series_id}"
+    t = Table(title=title)
     cols = ["start", "end", "SO2 kt", "± kt (indep.)", "DRE Mm³", "kg SO2 / m³"]
     if petro is not None:
         cols += ["expected kt", "excess", "finding"]
@@ -393,7 +407,7 @@ def budget(
     console.print(t)
     notes = list(tab.notes + res.notes)
     payload: dict = {"segments": frame.to_dict("records"), "notes": notes}
-    if ratio is not None:
+    if ratio is not None and "ratio" in tab.kinds:
         co2 = co2_flux(g, tab.series("ratio"), max_gap=ratio_max_gap)
         total = float(np.nansum(co2.flux.to_numpy()) * tab.grid.step_s)
         console.print(f"CO2 emitted (bins with a ratio within {ratio_max_gap}): {total / 1e6:.4g} kt", markup=False)
