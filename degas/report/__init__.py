@@ -91,6 +91,12 @@ def build_figures(bundle) -> dict[str, tuple[object, str]]:
     figs: dict[str, tuple[object, str]] = {"fig-overview": (F.overview_figure(bundle), "All series share the time "
                                            "axis. Scan-level points are reduced for display only (min-max per "
                                            "pixel bin); every analysis used the full data.")}
+    from degas.report.relation_figure import relation_scatter
+
+    rel_fig = relation_scatter(bundle)
+    if rel_fig is not None:
+        figs["fig-relation"] = (rel_fig, "Each point is a day: SO2 flux against the magma output at the relation's "
+                                         "lag, coloured by regime; the line is the fitted relation gas = g0 + k·Q.")
     if bundle.xcorr is not None:
         figs["fig-xcorr"] = (F.xcorr_figure(bundle.xcorr), "Correlation of SO2 flux with magma output at each lag; "
                              "positive lag: gas changes first. Grey band: white-noise 95 % band; the surrogate "
@@ -170,7 +176,7 @@ def render_report(bundle) -> tuple[str, dict]:
     page.add("summary", "Summary", '<ul class="summary">' + "".join(
         f'<li data-key="{esc(s.key)}">{esc(s.text)}</li>' for s in sentences) + "</ul>")
     figs = build_figures(bundle)
-    order = [("fig-overview", "series", "Monitoring series")]
+    order = [("fig-overview", "series", "Monitoring series"), ("fig-relation", "relation", "Gas against magma output")]
     order += [(k, "lag", "Lag between gas and magma output") for k in figs if k.startswith("fig-xcorr")]
     order += [("fig-rolling", "rolling", "Coupling through time"), ("fig-budget", "budget", "Gas budget"),
               ("fig-excess", "budget", "Gas budget"), ("fig-fmd", "seismicity", "Seismicity"),
