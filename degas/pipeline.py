@@ -42,6 +42,7 @@ class RunBundle:
     aligned_full: object | None = None  # the same over the whole record up to the run's end (for regimes)
     changepoints: dict = field(default_factory=dict)  # name -> ChangePointResult
     regimes: object | None = None
+    volume_slopes: object | None = None  # SlopeChangeResult of survey cumulative volumes (changes of slope)
     xcorr: object | None = None
     xcorr_intervals: list = field(default_factory=list)  # (start, end, label, CrossCorrelationResult)
     rolling: object | None = None
@@ -266,6 +267,15 @@ def _changepoints(b: RunBundle) -> None:
         if cls:
             lp = al.frame[[f"catalog_{c}" for c in cls]].sum(axis=1).to_frame("lp_hybrid_rate")
             targets["lp_hybrid_rate"] = (lp, {"lp_hybrid_rate": "anscombe"})
+    if b.roles.get("magma_kind") == "erupted_volume" and b.archive is not None:
+        # survey volumes: a change of output rate is a change of slope of the cumulative volume, not a level shift
+        from degas.analysis.volume_slopes import detect_slope_changes
+
+        targets.pop("magma", None)
+        try:
+            b.volume_slopes = detect_slope_changes(b.archive.load(b.roles["magma"]))
+        except DegasError as exc:
+            b.skipped.append(f"slope changes of the survey volumes: not run: {exc}")
     for name, (frame, transform) in targets.items():
         try:
             b.changepoints[name] = detect_changepoints(frame, transform=transform, **kw)

@@ -316,8 +316,14 @@ def _joint_segments(g, qs, index, magma_measure, min_segment, max_gap, penalty, 
         q = np.where(np.isfinite(qs), qs, -1.0)
         cut = np.r_[0, np.cumsum(np.diff(q) != 0)]
     else:
-        frame = pd.DataFrame({"gas": g, "magma": qs}, index)
-        res = detect_changepoints(frame, transform={"gas": "log", "magma": "identity"}, **kw)
+        dq = np.diff(qs)
+        dq = dq[np.isfinite(dq)]
+        if dq.size and np.mean(dq == 0) > 0.5:
+            # step-wise output (rates between surveys, constant for weeks): gas segmented alone, output on/off cuts
+            res = detect_changepoints(pd.DataFrame({"gas": g}, index), transform={"gas": "log"}, **kw)
+        else:
+            frame = pd.DataFrame({"gas": g, "magma": qs}, index)
+            res = detect_changepoints(frame, transform={"gas": "log", "magma": "identity"}, **kw)
         on = pd.Series(qs >= thr).where(np.isfinite(qs)).ffill().bfill().fillna(0).to_numpy(dtype=bool)
         on = _debounce(on, m)
         cut = np.r_[0, np.cumsum(np.diff(on.astype(int)) != 0)]

@@ -72,6 +72,8 @@ def tables(bundle) -> dict[str, pd.DataFrame]:
         out["lag_results"] = pd.DataFrame(lag_rows)
     if bundle.regimes is not None:
         out["regimes"] = bundle.regimes.to_frame()
+    if getattr(bundle, "volume_slopes", None) is not None:
+        out["volume_slope_changes"] = bundle.volume_slopes.to_frame()
     if bundle.budget is not None:
         out["budget"] = bundle.budget.to_frame()
     if bundle.review:

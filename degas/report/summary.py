@@ -73,6 +73,11 @@ def regime_sentences(bundle) -> list[Sentence]:
         return out
     iv = bundle.regimes.intervals
     munit = "m³/s DRE" if bundle.regimes.magma_measure == "extrusion_rate" else "(eruptive fraction)"
+    rel = getattr(bundle.regimes, "relation", None)
+    if rel is not None:  # the relation knows whether the DRE/bulk basis is known
+        from degas.analysis.relation import MAGMA_UNITS
+
+        munit = MAGMA_UNITS[rel.magma_measure] if rel.magma_measure != "eruptive_fraction" else "(eruptive fraction)"
     lp = bundle.changepoints.get("lp_hybrid_rate")
     for label, key in (("gas_only", "decoupled"), ("magma_only", "sealing")):
         for r in iv[iv["label"] == label].itertuples():
