@@ -461,10 +461,21 @@ def classify_from_relation(
     # 1. joint segments on the days both were observed, and the lag inside them
     ids = _joint_segments(g, q, index, magma_measure, min_segment, max_gap, penalty, thr)
     tau, k_w = 0, np.nan
+    ids_g, ids_q = ids, ids  # segments for removing means: gas on its axis, output on its own (τ later)
     if magma_measure != "eruptive_fraction":
         try:
-            sl = stretch_lags(gas, magma, ids, ids >= 0, max_lag=max_lag, n_boot=0)
+            sl = stretch_lags(gas, magma, ids, ids >= 0, max_lag=max_lag, n_boot=0, n_surrogates=0)
             tau, k_w = int(round(sl.lag / step)), sl.k_within
+            for _ in range(2):  # segments of gas against the output τ later, the output's own segments τ later
+                if tau == 0:
+                    break
+                ids_g = _joint_segments(g, _shift(q, tau), index, magma_measure, min_segment, max_gap, penalty, thr)
+                ids_q = _shift(ids_g.astype(float), -tau)
+                ids_q = np.where(np.isfinite(ids_q), ids_q, -1).astype(int)
+                sl = stretch_lags(gas, magma, ids_g, ids_g >= 0, max_lag=max_lag, n_boot=0, magma_segment_id=ids_q,
+                                  n_surrogates=0)
+                new_tau = int(round(sl.lag / step))
+                tau, k_w = new_tau, sl.k_within
         except NotEnoughDataError as exc:
             notes.append(f"no lag inside segments ({exc}); τ = 0")
     qs = _shift(q, tau)
@@ -525,14 +536,19 @@ def classify_from_relation(
     if magma_measure != "eruptive_fraction" and not rel.independent and (lab["label"] == "coupled").any():
         coupled = np.isin(ids, lab.loc[lab["label"] == "coupled", "piece"].to_numpy())
         try:
-            lags = stretch_lags(gas, magma, ids, coupled, max_lag=max_lag, n_boot=n_boot, seed=seed)
+            lags = stretch_lags(gas, magma, ids_g, coupled, max_lag=max_lag, n_boot=n_boot, seed=seed,
+                                magma_segment_id=ids_q)
         except NotEnoughDataError as exc:
             notes.append(f"lag inside coupled stretches not measured: {exc}")
-        if lags is not None and lags.k_within_ci is not None and lags.k_within_ci[0] <= 0:
+        weak = lags is not None and ((lags.k_within_ci is not None and lags.k_within_ci[0] <= 0)
+                                     or (np.isfinite(lags.p_value) and lags.p_value >= 0.05))
+        if weak:
             import dataclasses
 
             why = (f"{INDEPENDENT}: inside the coupled stretches gas does not follow the output's pulses "
-                   f"(within-segment k interval {lags.k_within_ci[0]:.3g} to {lags.k_within_ci[1]:.3g} includes 0)")
+                   f"(peak r = {lags.peak_r:.2f} at {lags.lag_days:+.0f} d, surrogate p = {lags.p_value:.3f} over "
+                   f"lags ±{(len(lags.r_by_lag) - 1) // 2} bins; within-segment k interval "
+                   f"{lags.k_within_ci[0]:.3g} to {lags.k_within_ci[1]:.3g})")
             rel = dataclasses.replace(rel, verdict=INDEPENDENT, notes=rel.notes + (why,))
             lab = _label_pieces(p, rel.g0_kg_s, rel.k, rel.predict_se(Q), rel.residual_scale_kg_s,
                                 rel.residual_phi, band, z, thr, True, given, fraction)

@@ -34,7 +34,8 @@ class StretchLagResult:
     block-bootstrap percentile intervals (None without bootstrap). ``k_within`` is kg/s of gas per m³/s of
     output (kg/m³). ``step_share`` is the share of the variance of each series (gas, output) carried by the
     segment means over the whole record: when both are large, a whole-record CCF is dominated by regime
-    changes.
+    changes. ``p_value`` : share of phase-randomised surrogates of the output whose largest correlation over
+    the lags searched reaches the observed peak (NaN without surrogates).
     """
 
     lag: pd.Timedelta
@@ -49,6 +50,8 @@ class StretchLagResult:
     step_share: tuple[float, float]
     ci_level: float = 0.95
     notes: tuple[str, ...] = field(default=())
+    p_value: float = np.nan
+    n_surrogates: int = 0
 
     @property
     def lag_days(self) -> float:
@@ -97,6 +100,8 @@ def stretch_lags(
     n_boot: int = 300,
     ci_level: float = 0.95,
     seed: int | None = 0,
+    magma_segment_id: np.ndarray | None = None,
+    n_surrogates: int = 200,
 ) -> StretchLagResult:
     """Pooled within-segment lagged correlation of gas against magma output on the selected days.
 
@@ -105,13 +110,19 @@ def stretch_lags(
     gas, magma : gas flux (kg/s) and magma output (m³/s DRE or eruptive fraction) on one regular UTC grid.
     segment_id : int per bin, the segment each bin belongs to (-1: none); means are removed per segment.
     select : bool per bin (gas time): days whose pairs enter (e.g. the coupled stretches).
+    magma_segment_id : segments of the output on its own time axis (default ``segment_id``): when gas leads by
+        τ, the output's steps come τ later, and removing its means at its own change times keeps a step from
+        pulling the lag towards 0.
+    n_surrogates : phase-randomised surrogates of the demeaned output (Theiler et al. 1992; generated on the
+        full grid with missing days set to 0, the segment mean, and the gaps re-imposed) for the p-value of the
+        largest correlation over all lags searched (0: no p-value).
     max_lag : lag search range (±). n_boot : block-bootstrap replicates (0: no interval).
     """
     step = pd.Timedelta(gas.index[1] - gas.index[0]) if len(gas) > 1 else DAY
     L = int(pd.Timedelta(max_lag) // step)
     seg = np.asarray(segment_id, dtype=int)
     gd = _demean(gas.to_numpy(dtype=float), seg)
-    qd = _demean(magma.to_numpy(dtype=float), seg)
+    qd = _demean(magma.to_numpy(dtype=float), seg if magma_segment_id is None else np.asarray(magma_segment_id, int))
     n = len(gd)
     lags = np.arange(-L, L + 1)
     pos = np.flatnonzero(np.asarray(select, dtype=bool) & np.isfinite(gd))
@@ -141,6 +152,24 @@ def stretch_lags(
     notes = []
     if not np.isfinite(r[best]):
         raise NotEnoughDataError("magma output does not vary inside the selected segments: no lag can be measured")
+    p_value = np.nan
+    if n_surrogates > 0:
+        rng = np.random.default_rng(None if seed is None else seed + 1)
+        spec = np.fft.rfft(np.where(np.isfinite(qd), qd, 0.0))
+        ph = rng.uniform(0, 2 * np.pi, size=(n_surrogates, len(spec)))
+        ph[:, 0] = 0.0
+        if n % 2 == 0:
+            ph[:, -1] = 0.0
+        sur = np.fft.irfft(spec[None, :] * np.exp(1j * ph), n=n, axis=1)
+        sur[:, ~np.isfinite(qd)] = np.nan
+        qs_ = np.where(inside[None], sur[:, np.clip(j, 0, n - 1)], np.nan)  # (S, m, lags)
+        oks = np.isfinite(qs_)
+        gzs = np.where(oks, gv[None], 0.0)
+        qzs = np.where(oks, qs_, 0.0)
+        ss = np.stack([oks.sum(1), gzs.sum(1), qzs.sum(1), (gzs * gzs).sum(1), (qzs * qzs).sum(1),
+                       (gzs * qzs).sum(1)], axis=-1).astype(float)
+        rs, _ = corr(ss)
+        p_value = float((1 + np.sum(np.nanmax(rs, axis=1) >= r[best])) / (1 + n_surrogates))
     block, _ = block_length(gd[pos])
     block = min(block, max(1, len(pos) // 4))
     lag_ci = k_ci = None
@@ -164,4 +193,5 @@ def stretch_lags(
     share = (_step_share(gas.to_numpy(dtype=float), seg), _step_share(magma.to_numpy(dtype=float), seg))
     frame = pd.DataFrame({"lag_days": lags * step / DAY, "r": np.where(np.isfinite(r), r, np.nan)})
     return StretchLagResult(int(lags[best]) * step, lag_ci, float(r[best]), frame, float(slope[best]), k_ci,
-                            int(len(pos)), int(block), int(n_boot), share, ci_level, tuple(notes))
+                            int(len(pos)), int(block), int(n_boot), share, ci_level, tuple(notes), p_value,
+                            int(n_surrogates))
