@@ -154,7 +154,7 @@ def classify_regimes(
         gas_baseline = float(gs["level"].min())
         notes.append(f"gas baseline = level of the lowest gas segment, {gas_baseline * KG_S_TO_T_D:.4g} t/d")
     if gas_baseline <= 0:
-        raise DegasError("the gas baseline must be positive (kg/s); pass gas_baseline=")
+        raise DegasError("the gas baseline must be positive; set --gas-background (t/d) or [regimes] gas_background")
     t0 = max(gs["start"].min(), ms["start"].min())
     t1 = min(gs["end"].max(), ms["end"].max())
     if t1 <= t0:
@@ -302,6 +302,13 @@ def _segment_ids(result, index: pd.DatetimeIndex) -> np.ndarray:
 
 
 def _joint_segments(g, qs, index, magma_measure, min_segment, max_gap, penalty, thr) -> np.ndarray:
+    try:
+        return _joint_segments_(g, qs, index, magma_measure, min_segment, max_gap, penalty, thr)
+    except DegasError as exc:  # user-facing: no Python argument names in the message
+        raise type(exc)(str(exc).split("; pass ")[0]) from None
+
+
+def _joint_segments_(g, qs, index, magma_measure, min_segment, max_gap, penalty, thr) -> np.ndarray:
     """Segment ids per bin: gas and output segmented jointly (shared change times, exact solver of
     :mod:`degas.analysis.changepoints` with its default noise model), then cut wherever the output switches
     between active and inactive (below ``thr``) for at least a minimum segment: a pause in output is a regime

@@ -84,3 +84,18 @@ def test_independent_never_coupled(bank):
 def test_coupled_decline_never_sealing(bank):
     bad = [b["seed"] for b in bank if b["family"] == "coupled_decline" and "magma_only" in set(b["labels"])]
     assert not bad, f"coupled declines labelled sealing in seeds {bad}"
+
+
+def test_first_summary_line_states_each_familys_truth(bank):
+    """`degas report` opens with the record-level verdict: 'independent' only for the independent family."""
+    from types import SimpleNamespace
+
+    from degas.report.summary import verdict_sentence
+
+    for b in bank:
+        if b["seed"] != 0:
+            continue
+        text = verdict_sentence(SimpleNamespace(regimes=b["res"])).text
+        want = ("Record-level verdict: gas independent of magma output" if b["family"] == "independent"
+                else "Record-level verdict: gas tracks magma output")
+        assert text.startswith(want), (b["family"], text)
