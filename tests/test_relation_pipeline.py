@@ -49,3 +49,27 @@ def test_summary_first_line_is_the_verdict(archive):
     assert f"k = {rel.k:.3g} kg SO2 per m³ DRE" in first.text and "Devine et al. 1984" in first.text
     # the demo's coupled phases have gas leading by 3-5 days (truth.json)
     assert 3 <= rel.lag_days <= 5 and 3 <= b.regimes.lags.lag_days <= 5
+
+
+def test_report_has_the_scatter_of_gas_against_lagged_output(archive):
+    from degas.pipeline import run_all
+    from degas.project import load_project
+    from degas.report.relation_figure import relation_scatter
+
+    b = run_all(archive, load_project(REPO / "demo_series" / "velmarra.toml"), mode="retrospective",
+                only=("change points", "regimes"))
+    fig = relation_scatter(b)
+    names = [t.name for t in fig.data]
+    assert any(n.startswith("coupled") for n in names) and any(n.startswith("gas without") for n in names)
+    assert any(n.startswith("relation: g0") for n in names)
+    assert "later" in fig.layout.title.text and fig.layout.yaxis.title.text == "SO2 flux (t/d)"
+
+
+def test_shifts_on_survey_volumes_reports_changes_of_slope(archive, capsys):
+    from degas.cli import main  # noqa: F401  (registers every command)
+    from degas.cli._app import run
+
+    (vol,) = archive.find(kind="erupted_volume")
+    assert run(["shifts", str(archive.root), vol.series_id]) == 0
+    out = capsys.readouterr().out
+    assert "Changes of slope" in out and "m³/s DRE" in out

@@ -87,6 +87,9 @@ def shifts(
             raise DegasError(f"{sid}: is a {type(rec).__name__}, not a time series; change points need a series "
                              "(for a seismic catalogue, build an event-rate series first)")
         records.append(rec)
+    if len(records) == 1 and records[0].meta.kind == "erupted_volume":
+        _volume_slopes(records[0], csv)  # a cumulative volume changes slope, not level
+        return
     res = detect_changepoints(records if len(records) > 1 else records[0], step=step, min_segment=min_segment,
                               max_gap=max_gap, penalty=_penalty(penalty), method=method, transform=transform,
                               noise=noise, confidence=confidence)
@@ -134,3 +137,24 @@ def shifts(
         }
         json_out.write_text(json.dumps(jsonable(doc), indent=2, ensure_ascii=False))
         console.print(f"wrote {json_out}", markup=False)
+
+
+def _volume_slopes(rec, csv: Path | None) -> None:
+    """Print the changes of output rate of a survey cumulative volume (changes of slope)."""
+    from degas.analysis.volume_slopes import detect_slope_changes
+
+    res = detect_slope_changes(rec)
+    unit = "m³/s DRE" if res.volume_basis == "dre" else "m³/s (basis bulk)" if res.volume_basis == "bulk" else \
+        "m³/s (DRE/bulk basis unknown)"
+    table = Table(title=f"Changes of slope of {rec.meta.series_id}: {len(res.change_times)} found (piecewise-linear "
+                        f"fit of the cumulative volume; mean output rate per segment)")
+    for col in ("start (UTC)", "end (UTC)", "surveys", f"rate ({unit})"):
+        table.add_column(col)
+    for r in res.segments.itertuples():
+        table.add_row(f"{r.start:%Y-%m-%d}", f"{r.end:%Y-%m-%d}", str(r.n_surveys), _num(r.rate_m3_s))
+    console.print(table)
+    for note in res.notes:
+        console.print(f"note: {note}", markup=False)
+    if csv is not None:
+        res.to_frame().to_csv(csv, index=False, date_format="%Y-%m-%dT%H:%M:%SZ")
+        console.print(f"wrote {csv}", markup=False)
