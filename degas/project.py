@@ -26,10 +26,10 @@ With it the weekly run is one command (``degas report ARCHIVE --project velmarra
     penalty = "bic3"
 
     [regimes]                     # project defaults, not published values: tune per volcano
-    gas_factor = 2.0              # gas active above this multiple of the baseline
-    magma_threshold = 0.1         # m³/s DRE
-    ratio_low = 0.3               # gas-poor below this fraction of the expected gas per magma
-    ratio_high = 3.0
+    magma_threshold = 0.1         # m³/s DRE: output counted as active
+    gas_factor = 2.0              # (segment-table labelling of classify_regimes only; the run uses the relation)
+    ratio_low = 0.3               # (idem)
+    ratio_high = 3.0              # (idem)
     # gas_background = 150        # t/d; default: the fitted relation's intercept at zero output
     relation_band = 0.25          # gas within ±25 % of the relation's prediction (at least) counts as coupled
 

@@ -141,6 +141,10 @@ def _methods(bundle) -> str:
         "b-value by Aki (1965) with the Utsu (1966) binning correction and Shi &amp; Bolt (1982) uncertainty; Mc by "
         "maximum curvature + 0.2 (Wiemer &amp; Wyss 2000; Woessner &amp; Wiemer 2005). Seismic energy from "
         "log10 E = 1.5 M + 4.8 (Gutenberg &amp; Richter 1956, approximate).</p>",
+        "<p>Coupling: SO2 = g0 + k·output(t + τ) fitted by Huber regression (Huber 1964) on the days of the pieces "
+        "consistent with one relation, intervals from a moving-block bootstrap (Künsch 1989); gas and output "
+        "segmented jointly, each piece labelled against the relation's prediction band; τ measured inside the "
+        "coupled stretches with segment means removed; survey volumes segmented by changes of slope.</p>",
         "<h3>Cautions</h3><ul>" + "".join(f"<li>{esc(c)}</li>" for c in STANDING_CAUTIONS) + "</ul>",
         "<h3>Series used</h3>" + table_html(pd.DataFrame({"role": list(roles), "series": [str(v) for v in
                                                                                       roles.values()]})),
