@@ -99,7 +99,8 @@ def regime_sentences(bundle) -> list[Sentence]:
                         + (f"below the {_num(r.predicted_t_d)} t/d the gas–magma relation predicts "
                            f"(band {_num(r.band_low_t_d)} to {_num(r.band_high_t_d)})"
                            if "predicted_t_d" in iv.columns else "")
-                        + f"; excess gas per output {_num(r.ratio_vs_expected, 2)}× the relation's k.")
+                        + (f"; excess gas per output {_num(r.ratio_vs_expected, 2)}× the relation's k."
+                           if r.ratio_vs_expected > 0 else "; gas at or below the background g0."))
                 if lp is not None:
                     near = lp.changes[(lp.changes["time"] >= r.start - pd.Timedelta("21D"))
                                       & (lp.changes["time"] <= r.end)]
