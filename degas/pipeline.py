@@ -42,6 +42,7 @@ class RunBundle:
     aligned_full: object | None = None  # the same over the whole record up to the run's end (for regimes)
     changepoints: dict = field(default_factory=dict)  # name -> ChangePointResult
     regimes: object | None = None
+    volume_slopes: object | None = None  # SlopeChangeResult of survey cumulative volumes (changes of slope)
     xcorr: object | None = None
     xcorr_intervals: list = field(default_factory=list)  # (start, end, label, CrossCorrelationResult)
     rolling: object | None = None
@@ -117,9 +118,11 @@ def _counts_role(entries: list[SeriesEntry]) -> tuple[str, ...]:
 
 
 def run_all(archive: Archive, project: Project, *, mode: str = "weekly", before: pd.Timestamp | None = None,
-            start: pd.Timestamp | None = None, end: pd.Timestamp | None = None, progress=None) -> RunBundle:
+            start: pd.Timestamp | None = None, end: pd.Timestamp | None = None, progress=None,
+            only: tuple[str, ...] | None = None) -> RunBundle:
     """Run every analysis. ``mode`` "weekly": review window before ``before`` (default: the day after the last
-    datum); "retrospective": the episode from ``start`` to ``end`` (default: the whole record)."""
+    datum); "retrospective": the episode from ``start`` to ``end`` (default: the whole record). ``only`` names
+    the steps to run after loading and aligning (the commands use it to print exactly what the report says)."""
     from degas.analysis.review import review_periods
 
     if mode not in ("weekly", "retrospective"):
@@ -156,6 +159,8 @@ def run_all(archive: Archive, project: Project, *, mode: str = "weekly", before:
                                    baseline_days=project.baseline_days)
 
     def step(name: str, fn) -> None:
+        if only is not None and name != "load and align" and name not in only:
+            return
         t0 = time.perf_counter()
         if progress:
             progress(name)
@@ -284,6 +289,15 @@ def _changepoints(b: RunBundle) -> None:
         if cls:
             lp = al.frame[[f"catalog_{c}" for c in cls]].sum(axis=1, min_count=len(cls)).to_frame("lp_hybrid_rate")
             targets["lp_hybrid_rate"] = (lp, {"lp_hybrid_rate": "anscombe"})
+    if b.roles.get("magma_kind") == "erupted_volume" and b.archive is not None:
+        # survey volumes: a change of output rate is a change of slope of the cumulative volume, not a level shift
+        from degas.analysis.volume_slopes import detect_slope_changes
+
+        targets.pop("magma", None)
+        try:
+            b.volume_slopes = detect_slope_changes(b.archive.load(b.roles["magma"]))
+        except DegasError as exc:
+            b.skipped.append(f"slope changes of the survey volumes: not run: {exc}")
     for name, (frame, transform) in targets.items():
         try:
             b.changepoints[name] = detect_changepoints(frame, transform=transform, **kw)
@@ -292,23 +306,27 @@ def _changepoints(b: RunBundle) -> None:
 
 
 def _regimes(b: RunBundle) -> None:
-    from degas.analysis.regimes import classify_regimes, segments_table
+    """Regimes from the fitted gas–magma relation (issue 9), labelled on the whole history."""
+    from degas.analysis.regimes import classify_from_relation
+    from degas.units import KG_S_TO_T_D
 
-    if "gas" not in b.changepoints:
-        raise DegasError("needs change points of the gas flux")
-    measure = "eruptive_fraction" if b.aligned.kinds.get("magma", "chronology") == "chronology" else "extrusion_rate"
-    if measure == "extrusion_rate" and "magma" in b.changepoints:
-        magma_segments = segments_table(b.changepoints["magma"], "magma")
-    elif "chronology" in b.records:
-        magma_segments = _phase_segments(b)  # the phases themselves are the magma-output segments
-    else:
-        raise DegasError("needs change points of the magma output or an eruption chronology")
+    al = b.aligned_full
+    if "gas" not in al.kinds:
+        raise DegasError("needs the gas flux")
+    mname = "magma" if "magma" in al.kinds else "chronology" if "chronology" in al.kinds else None
+    if mname is None:
+        raise DegasError("needs a magma output (extrusion rate, survey volumes or an eruption chronology)")
+    measure = "eruptive_fraction" if al.kinds[mname] == "chronology" else "extrusion_rate"
+    rec = b.records.get("magma")
+    if measure == "extrusion_rate" and rec is not None and getattr(rec.meta, "volume_basis", "dre") is None:
+        measure = "extrusion_rate_unknown_basis"
     p = b.project
-    # the expected gas per magma is the record's own (coupled intervals), not the petrological value: the
-    # petrological method gives a minimum (Devine et al. 1984) and is reported separately in the budget
-    res = classify_regimes(segments_table(b.changepoints["gas"], "gas"), magma_segments, magma_measure=measure,
-                           gas_factor=p.gas_factor, magma_threshold=p.magma_threshold, ratio_low=p.ratio_low,
-                           ratio_high=p.ratio_high)
+    g, m = al.pair("gas", mname)
+    bg = None if p.gas_background is None else p.gas_background / KG_S_TO_T_D
+    res = classify_from_relation(g, m, magma_measure=measure, gas_background=bg, magma_threshold=p.magma_threshold,
+                                 band=p.relation_band, max_lag=p.rolling_max_lag, min_segment=p.min_segment,
+                                 max_gap=p.max_gap, penalty=p.penalty, n_boot=p.bootstrap, petrology=p.petrology,
+                                 seed=p.seed)
     if b.mode == "retrospective":  # labelled on the whole history, shown for the episode only
         iv = res.intervals
         iv = iv[(iv["end"] > b.start) & (iv["start"] < b.end)].copy()

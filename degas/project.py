@@ -26,10 +26,12 @@ With it the weekly run is one command (``degas report ARCHIVE --project velmarra
     penalty = "bic3"
 
     [regimes]                     # project defaults, not published values: tune per volcano
-    gas_factor = 2.0              # gas active above this multiple of the baseline
-    magma_threshold = 0.1         # m³/s DRE
-    ratio_low = 0.3               # gas-poor below this fraction of the expected gas per magma
-    ratio_high = 3.0
+    magma_threshold = 0.1         # m³/s DRE: output counted as active
+    gas_factor = 2.0              # (segment-table labelling of classify_regimes only; the run uses the relation)
+    ratio_low = 0.3               # (idem)
+    ratio_high = 3.0              # (idem)
+    # gas_background = 150        # t/d; default: the fitted relation's intercept at zero output
+    relation_band = 0.25          # gas within ±25 % of the relation's prediction (at least) counts as coupled
 
     [petrology]                   # Devine, Sigurdsson & Davis (1984) inputs, 1-sigma uncertainties
     s_melt_inclusion_ppm = 1500
@@ -202,6 +204,8 @@ class Project:
     magma_threshold: float | None = None
     ratio_low: float = 0.3
     ratio_high: float = 3.0
+    gas_background: float | None = None  # t/d; None = the fitted relation's intercept g0
+    relation_band: float = 0.25  # relative floor of the relation's prediction band (project default)
     petrology: PetrologyInputs | None = None
     window_days: int = 7
     baseline_days: int = 90
@@ -253,7 +257,7 @@ _TYPES: dict[str, tuple[type, ...]] = {
     "min_coverage": (int, float), "gas_factor": (int, float), "magma_threshold": (int, float),
     "ratio_low": (int, float), "ratio_high": (int, float), "surrogates": (int,), "bootstrap": (int,),
     "rolling_surrogates": (int,), "window_days": (int,), "baseline_days": (int,), "b_window_events": (int,),
-    "seed": (int,),
+    "seed": (int,), "gas_background": (int, float), "relation_band": (int, float),
 }
 
 
@@ -343,4 +347,8 @@ def project_from_dict(raw: dict, where: str = "project") -> Project:
         raise ConfigError(f"{where}: {exc}") from None
     if not 0 <= proj.min_coverage <= 1:
         raise ConfigError(f"{where}: min_coverage must be between 0 and 1")
+    if proj.gas_background is not None and proj.gas_background < 0:
+        raise ConfigError(f"{where}: [regimes] gas_background must be 0 or more (t/d)")
+    if not 0 <= proj.relation_band < 1:
+        raise ConfigError(f"{where}: [regimes] relation_band must be between 0 and 1")
     return proj

@@ -25,7 +25,7 @@ def _examples() -> list[list[str]]:
 
 def test_readme_export_examples_run_as_written(tmp_path, capsys):
     examples = _examples()
-    assert [e[0] for e in examples] == ["formats", "ingest", "ingest", "ingest", "quakes", "forget"]
+    assert [e[0] for e in examples] == ["ingest", "ingest", "ingest", "quakes", "forget", "formats"]
     (tmp_path / "demo_series").symlink_to(ROOT / "demo_series")
     cwd = os.getcwd()
     os.chdir(tmp_path)

@@ -72,7 +72,8 @@ def test_clear_errors(archive, capsys):
     # two gas series where one must be magma output
     code = run(["couple", str(archive), "--gas", "gas_flux.so2_flux.n", "--magma", "gas_flux.co2_flux.n"])
     assert code == 2
-    assert "magma output must be extrusion_rate or chronology" in capsys.readouterr().err
+    # survey volumes are magma output too (issue 9), and the message names the option to change
+    assert "magma output (--magma) must be extrusion_rate or erupted_volume or chronology" in capsys.readouterr().err
     assert run(["budget", str(archive), "--extrusion", "gas_flux.so2_flux.n"]) == 2
     assert "extrusion rate must be extrusion_rate" in capsys.readouterr().err
     assert run(["regimes", str(archive), "--gas", "nope"]) == 2

@@ -48,12 +48,16 @@ def shifts(
     archive: Path = typer.Argument(..., help="Archive directory."),
     series: list[str] = typer.Argument(..., help="Series id(s); several ids are segmented jointly "
                                                  "(shared changes)."),
-    step: str | None = typer.Option(None, help="Grid step, e.g. '1D', '10min' (default: from the sampling)."),
+    project: Path | None = typer.Option(None, "--project", help="Project TOML: grid step, minimum segment, "
+                                                                "longest gap and penalty as in the report."),
+    step: str | None = typer.Option(None, help="Grid step, e.g. '1D', '10min' (default: project, else from the "
+                                               "sampling)."),
     min_segment: str | None = typer.Option(None, "--min-segment", help="Shortest segment, e.g. '3D' "
-                                                                       "(default 3 bins)."),
+                                                                       "(default: project, else 3 bins)."),
     max_gap: str | None = typer.Option(None, "--max-gap", help="Longest gap bridged; longer gaps split the "
-                                                               "signal (default 5 bins)."),
-    penalty: str = typer.Option("bic3", help="bic3, bic, mbic, or a number (per change, in units of σ²)."),
+                                                               "signal (default: project, else 5 bins)."),
+    penalty: str | None = typer.Option(None, help="bic3, bic, mbic, or a number (per change, in units of σ²; "
+                                                  "default: project, else bic3)."),
     method: str = typer.Option("exact", help="exact, pelt, binseg, window, dynp or kernel."),
     transform: str | None = typer.Option(None, help="log, anscombe or identity (default: by kind)."),
     noise: str = typer.Option("auto", help="Noise estimate: auto (autocorrelation-aware) or mad_diff."),
@@ -66,6 +70,15 @@ def shifts(
     from degas.model import TimeSeries
     from degas.store import Archive
 
+    if project is not None:
+        from degas.project import load_project
+
+        pj = load_project(project)
+        step = step or pj.step
+        min_segment = min_segment or pj.min_segment
+        max_gap = max_gap or pj.max_gap
+        penalty = penalty or str(pj.penalty)
+    penalty = penalty or "bic3"
     arc = Archive.open(archive)
     records = []
     for sid in series:
@@ -74,6 +87,9 @@ def shifts(
             raise DegasError(f"{sid}: is a {type(rec).__name__}, not a time series; change points need a series "
                              "(for a seismic catalogue, build an event-rate series first)")
         records.append(rec)
+    if len(records) == 1 and records[0].meta.kind == "erupted_volume":
+        _volume_slopes(records[0], csv)  # a cumulative volume changes slope, not level
+        return
     res = detect_changepoints(records if len(records) > 1 else records[0], step=step, min_segment=min_segment,
                               max_gap=max_gap, penalty=_penalty(penalty), method=method, transform=transform,
                               noise=noise, confidence=confidence)
@@ -121,3 +137,24 @@ def shifts(
         }
         json_out.write_text(json.dumps(jsonable(doc), indent=2, ensure_ascii=False))
         console.print(f"wrote {json_out}", markup=False)
+
+
+def _volume_slopes(rec, csv: Path | None) -> None:
+    """Print the changes of output rate of a survey cumulative volume (changes of slope)."""
+    from degas.analysis.volume_slopes import detect_slope_changes
+
+    res = detect_slope_changes(rec)
+    unit = "m³/s DRE" if res.volume_basis == "dre" else "m³/s (basis bulk)" if res.volume_basis == "bulk" else \
+        "m³/s (DRE/bulk basis unknown)"
+    table = Table(title=f"Changes of slope of {rec.meta.series_id}: {len(res.change_times)} found (piecewise-linear "
+                        f"fit of the cumulative volume; mean output rate per segment)")
+    for col in ("start (UTC)", "end (UTC)", "surveys", f"rate ({unit})"):
+        table.add_column(col)
+    for r in res.segments.itertuples():
+        table.add_row(f"{r.start:%Y-%m-%d}", f"{r.end:%Y-%m-%d}", str(r.n_surveys), _num(r.rate_m3_s))
+    console.print(table)
+    for note in res.notes:
+        console.print(f"note: {note}", markup=False)
+    if csv is not None:
+        res.to_frame().to_csv(csv, index=False, date_format="%Y-%m-%dT%H:%M:%SZ")
+        console.print(f"wrote {csv}", markup=False)

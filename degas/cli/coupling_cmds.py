@@ -16,7 +16,6 @@ from rich.table import Table
 
 from degas.cli._app import app, console
 from degas.errors import DegasError
-from degas.units import KG_S_TO_T_D
 
 DAY = pd.Timedelta("1D")
 
@@ -114,25 +113,34 @@ def _clean(obj):
 @app.command("couple")
 def couple(
     archive_dir: Path = typer.Argument(..., help="Archive directory."),
+    project: Path | None = typer.Option(None, "--project", help="Project TOML: series and analysis settings as "
+                                                                "in the report (options given here override)."),
     gas: str | None = typer.Option(None, help="Series id of the gas flux (default: the only SO2 flux)."),
     magma: str | None = typer.Option(None, help="Series id of magma output: extrusion rate or chronology "
                                                 "(default: the only one)."),
-    step: str = typer.Option("1D", help="Grid step, e.g. '1D', '6h'."),
-    min_coverage: float = typer.Option(0.3, help="Bins with less coverage (0-1) are missing (a daylight-only "
-                                                 "scanner covers about 0.4 of a day)."),
-    max_lag: str = typer.Option("60D", help="Lag search range (positive lag = gas leads magma output)."),
-    variant: str = typer.Option("prewhitened", help="prewhitened, raw or differenced."),
-    surrogates: int = typer.Option(1000, help="Surrogates for the significance test (0: none)."),
+    step: str | None = typer.Option(None, help="Grid step, e.g. '1D', '6h' (default: project, else 1D)."),
+    min_coverage: float | None = typer.Option(None, help="Bins with less coverage (0-1) are missing (a "
+                                                         "daylight-only scanner covers about 0.4 of a day; default: "
+                                                         "project, else 0.3)."),
+    max_lag: str | None = typer.Option(None, help="Lag search range (positive lag = gas leads magma output; "
+                                                  "default: project, else 60D)."),
+    variant: str | None = typer.Option(None, help="prewhitened, raw or differenced (default: project, else "
+                                                  "prewhitened)."),
+    surrogates: int | None = typer.Option(None, help="Surrogates for the significance test (0: none; default: "
+                                                     "project, else 1000)."),
     surrogate_method: str = typer.Option("phase", "--surrogate-method", help="phase or iaaft."),
-    boot: int = typer.Option(500, help="Block-bootstrap replicates for the best-lag interval (0: none)."),
-    seed: int = typer.Option(0, help="Random seed."),
+    boot: int | None = typer.Option(None, help="Block-bootstrap replicates for the best-lag interval (0: none; "
+                                               "default: project, else 500)."),
+    seed: int | None = typer.Option(None, help="Random seed (default: project, else 0)."),
     granger: bool = typer.Option(True, help="Also run Granger tests both ways."),
     granger_max_lag: str = typer.Option("10D", help="Largest Granger lag order (duration)."),
     rolling: bool = typer.Option(False, help="Also compute rolling coupling."),
-    window: str = typer.Option("60D", help="Rolling window."),
-    window_step: str = typer.Option("7D", help="Rolling window shift."),
-    window_max_lag: str = typer.Option("15D", help="Lag range inside each rolling window."),
-    window_surrogates: int = typer.Option(200, help="Surrogates per rolling window."),
+    window: str | None = typer.Option(None, help="Rolling window (default: project, else 60D)."),
+    window_step: str | None = typer.Option(None, help="Rolling window shift (default: project, else 7D)."),
+    window_max_lag: str | None = typer.Option(None, help="Lag range inside each rolling window (default: project, "
+                                                         "else 15D)."),
+    window_surrogates: int | None = typer.Option(None, help="Surrogates per rolling window (default: project, "
+                                                            "else 200)."),
     csv: Path | None = typer.Option(None, "--csv", help="Write the cross-correlation per lag (or the rolling "
                                                         "table with --rolling) to CSV."),
     json_out: Path | None = typer.Option(None, "--json", help="Write the summary as JSON."),
@@ -141,15 +149,54 @@ def couple(
     from degas.analysis.coupling import rolling_coupling
     from degas.analysis.granger import granger_test
     from degas.analysis.xcorr import cross_correlate
+    from degas.project import load_project
 
-    kinds = ("extrusion_rate", "chronology")
-    tab, entries = _aligned(archive_dir, {"gas": (gas, ("gas_flux",), "gas flux"),
-                                          "magma": (magma, kinds, "magma output")}, step, min_coverage)
-    g, m = tab.pair("gas", "magma")
-    gname, mname = entries["gas"].series_id, entries["magma"].series_id
+    pj = load_project(project) if project is not None else None
+
+    def pick(value, key, default):
+        return value if value is not None else getattr(pj, key) if pj is not None else default
+
+    step, min_coverage = pick(step, "step", "1D"), pick(min_coverage, "min_coverage", 0.3)
+    max_lag, variant = pick(max_lag, "max_lag", "60D"), pick(variant, "variant", "prewhitened")
+    surrogates, boot, seed = pick(surrogates, "surrogates", 1000), pick(boot, "bootstrap", 500), pick(seed, "seed", 0)
+    window, window_step = pick(window, "rolling_window", "60D"), pick(window_step, "rolling_step", "7D")
+    window_max_lag = pick(window_max_lag, "rolling_max_lag", "15D")
+    window_surrogates = pick(window_surrogates, "rolling_surrogates", 200)
+    from degas.store import Archive
+
+    arch = Archive.open(archive_dir)
+    if gas is not None:
+        _pick(arch, gas, ("gas_flux",), "gas flux (--gas)")
+    if magma is not None:
+        _pick(arch, magma, ("extrusion_rate", "erupted_volume", "chronology"), "magma output (--magma)")
+    payload: dict = {}
+    # the series, grid, relation and lag inside coupled stretches exactly as the report computes them
+    b = _run_project(archive_dir, project, ("regimes",), gas=gas, magma=magma, step=step, min_coverage=min_coverage,
+                     seed=seed)
+    mname = "magma" if "magma" in b.aligned.kinds else "chronology"
+    if "gas" not in b.aligned.kinds or mname not in b.aligned.kinds:
+        raise DegasError("couple needs a gas flux and a magma output (extrusion rate, survey volumes or chronology); "
+                         "choose them with --gas and --magma")
+    tab = b.aligned
+    g, m = tab.pair("gas", mname)
+    gname = ", ".join(b.roles["gas"]) or "gas"
+    mname = b.roles["magma"] or mname
+    for sk in b.skipped:
+        console.print(f"  {sk}", markup=False)
+    reg = b.regimes
+    if reg is not None:
+        _relation_lines(b)
+        payload["relation"] = reg.relation.summary()
+        if reg.lags is not None and reg.lags.lag_ci is not None:
+            payload["lag_in_coupled_stretches"] = {"lag_days": reg.lags.lag_days, "ci_days": [
+                reg.lags.lag_ci[0] / DAY, reg.lags.lag_ci[1] / DAY], "peak_r": reg.lags.peak_r}
     res = cross_correlate(g, m, max_lag=max_lag, variant=variant, n_surrogates=surrogates, surrogate=surrogate_method,
                           n_boot=boot, seed=seed, gas_name=gname, magma_name=mname)
-    t = Table(title=f"Cross-correlation {gname} vs {mname} (positive lag = gas leads)")
+    context = ""
+    if reg is not None and reg.steps_dominate:
+        context = (f"; context only: regime changes dominate (segment means carry {reg.step_share[0]:.0%} / "
+                   f"{reg.step_share[1]:.0%} of the variance)")
+    t = Table(title=f"Whole-record cross-correlation {gname} vs {mname} (positive lag = gas leads{context})")
     for c in ("variant", "best lag", "lag CI", "peak r", "p (max |r|)", "white-noise band", "bins"):
         t.add_column(c)
     s = res.summary()
@@ -158,7 +205,7 @@ def couple(
               f"±{s['white_noise_band']:.3f}", str(res.n_bins))
     console.print(t)
     _notes(tab.notes + res.notes)
-    payload: dict = {"cross_correlation": s, "notes": list(tab.notes + res.notes)}
+    payload.update({"cross_correlation": s, "notes": list(tab.notes + res.notes)})
     frame = res.to_frame()
     if granger:
         try:
@@ -201,58 +248,103 @@ def _segments(series: pd.Series, name: str) -> pd.DataFrame:
     return segments_table(detect_changepoints(pd.DataFrame({name: series})), name)
 
 
+def _run_project(archive_dir: Path, project_path: Path | None, only: tuple[str, ...], **overrides):
+    """The report's own steps on the whole record, with the project's settings (CLI values override)."""
+    import dataclasses
+
+    from degas.pipeline import run_all
+    from degas.project import Project, load_project
+    from degas.store import Archive
+
+    project = load_project(project_path) if project_path is not None else Project()
+    archive = Archive.open(archive_dir)
+    for _opt, sid in (("--gas", overrides.get("gas")), ("--magma", overrides.get("magma"))):
+        if sid is not None:
+            archive.entry(sid)  # names the stored series when the id is wrong
+    if overrides.get("gas") is not None:
+        overrides["gas"] = (overrides["gas"],)
+    project = dataclasses.replace(project, **{k: v for k, v in overrides.items() if v is not None})
+    return run_all(archive, project, mode="retrospective", only=only)
+
+
+def _relation_lines(b) -> None:
+    from degas.report.summary import verdict_sentence
+
+    v = verdict_sentence(b)
+    if v is not None:
+        console.print(v.text, markup=False)
+
+
 @app.command("regimes")
 def regimes(
     archive_dir: Path = typer.Argument(..., help="Archive directory."),
-    gas: str | None = typer.Option(None, help="Series id of the SO2 flux (default: the only one)."),
-    magma: str | None = typer.Option(None, help="Series id of extrusion rate or chronology (default: the only)."),
-    step: str = typer.Option("1D", help="Grid step."),
-    min_coverage: float = typer.Option(0.3, help="Bins with less coverage (0-1) are missing (a daylight-only "
-                                                 "scanner covers about 0.4 of a day)."),
-    gas_baseline: float | None = typer.Option(None, help="Passive-degassing baseline, t/d (default: the lowest "
-                                                         "gas segment)."),
-    gas_factor: float = typer.Option(2.0, help="Gas is active at this multiple of the baseline."),
-    magma_threshold: float | None = typer.Option(None, help="Magma output active at/above this (default 0.1 m³/s "
-                                                            "or eruptive fraction 0.5)."),
-    expected_ratio: float | None = typer.Option(None, help="Expected excess gas per magma output, kg SO2 per m³ "
-                                                           "DRE (default: from the record)."),
+    project: Path | None = typer.Option(None, "--project", help="Project TOML: series, grid, change-point and "
+                                                                "regime settings as in the report."),
+    gas: str | None = typer.Option(None, help="Series id of the SO2 flux (default: the project's or every SO2 "
+                                              "flux, averaged per bin)."),
+    magma: str | None = typer.Option(None, help="Series id of extrusion rate, survey volumes or chronology "
+                                                "(default: the project's or the only one)."),
+    step: str | None = typer.Option(None, help="Grid step (default: project, else 1D)."),
+    min_coverage: float | None = typer.Option(None, help="Bins with less coverage (0-1) are missing (default: "
+                                                         "project, else 0.3)."),
+    gas_background: float | None = typer.Option(None, "--gas-background", help="Background (passive) degassing "
+                                                "at zero output, t/d; overrides the fitted intercept g0."),
+    magma_threshold: float | None = typer.Option(None, "--magma-threshold", help="Output counted as active "
+                                                 "at/above this (default 0.1 m³/s DRE or eruptive fraction 0.5)."),
+    band: float | None = typer.Option(None, "--band", help="Relative floor of the prediction band, 0-1 (default: "
+                                                          "project, else 0.25)."),
+    boot: int | None = typer.Option(None, "--boot", help="Block-bootstrap replicates (default: project, else 300)."),
     csv: Path | None = typer.Option(None, "--csv", help="Write the intervals to CSV."),
-    json_out: Path | None = typer.Option(None, "--json", help="Write the intervals and notes as JSON."),
+    json_out: Path | None = typer.Option(None, "--json", help="Write the relation, intervals and notes as JSON."),
 ) -> None:
-    """Label intervals coupled / quiet / gas_only / magma_only from change-point segments."""
-    from degas.analysis.regimes import classify_regimes
+    """Fit gas = g0 + k·output(t + lag) and label intervals coupled / quiet / gas_only / magma_only from it."""
+    from degas.analysis.relation import MAGMA_UNITS
 
-    tab, entries = _aligned(archive_dir, {"gas": (gas, ("gas_flux",), "gas flux"),
-                                          "magma": (magma, ("extrusion_rate", "chronology"), "magma output")},
-                            step, min_coverage)
-    g, m = tab.pair("gas", "magma")
-    measure = "eruptive_fraction" if entries["magma"].meta.kind == "chronology" else "extrusion_rate"
-    res = classify_regimes(_segments(g, "gas"), _segments(m, "magma"), magma_measure=measure,
-                           gas_baseline=None if gas_baseline is None else gas_baseline / KG_S_TO_T_D,
-                           gas_factor=gas_factor, magma_threshold=magma_threshold, expected_ratio=expected_ratio)
-    t = Table(title=f"Regimes: {entries['gas'].series_id} vs {entries['magma'].series_id}")
-    for c in ("start", "end", "days", "label", "gas t/d", "magma", "vs expected", "evidence"):
+    if band is not None and not 0 <= band < 1:
+        raise DegasError(f"--band must be between 0 and 1, got {band}")
+    if gas_background is not None and gas_background < 0:
+        raise DegasError(f"--gas-background must be 0 or more (t/d), got {gas_background}")
+    b = _run_project(archive_dir, project, ("regimes",), gas=gas, magma=magma, step=step, min_coverage=min_coverage,
+                     gas_background=gas_background, magma_threshold=magma_threshold, relation_band=band,
+                     bootstrap=boot)
+    if b.regimes is None:
+        raise DegasError("; ".join(b.skipped) or "regimes could not be computed")
+    res = b.regimes
+    _relation_lines(b)
+    unit = MAGMA_UNITS[res.relation.magma_measure]
+    t = Table(title=f"Regimes from the gas–magma relation (output in {unit})")
+    for c in ("start", "end", "days", "label", "gas t/d", "output", "predicted t/d", "band t/d"):
         t.add_column(c)
     for r in res.intervals.itertuples():
         t.add_row(_fmt(r.start), _fmt(r.end), f"{r.duration_days:.0f}", r.label, f"{r.gas_t_d:.0f}",
-                  _fmt(r.magma_level), _fmt(r.ratio_vs_expected, ".2f"), r.evidence)
+                  _fmt(r.magma_level), f"{r.predicted_t_d:.0f}", f"{r.band_low_t_d:.0f}-{r.band_high_t_d:.0f}")
     console.print(t)
-    _notes(tab.notes + res.notes)
-    _write(res.to_frame(), csv, {"intervals": res.to_frame().to_dict("records"), "notes": list(res.notes)},
-           json_out)
+    for r in res.intervals.itertuples():
+        console.print(f"  {_fmt(r.start)} {r.label}: {r.evidence}", markup=False)
+    notes = list(b.notes) + list(res.notes) + list(res.relation.notes)
+    _notes(notes)
+    payload = {"relation": res.relation.summary(), "intervals": res.to_frame().to_dict("records"), "notes": notes}
+    if res.lags is not None:
+        payload["lag_in_coupled_stretches"] = {"lag_days": res.lags.lag_days, "ci_days": [
+            res.lags.lag_ci[0] / DAY, res.lags.lag_ci[1] / DAY] if res.lags.lag_ci else None,
+            "k_within": res.lags.k_within}
+    _write(res.to_frame(), csv, payload, json_out)
 
 
 @app.command("budget")
 def budget(
     archive_dir: Path = typer.Argument(..., help="Archive directory."),
+    project: Path | None = typer.Option(None, "--project", help="Project TOML: series, petrology and segments "
+                                                                "(the regimes) exactly as in the report."),
     gas: str | None = typer.Option(None, help="Series id of the SO2 flux (default: the only one)."),
     extrusion: str | None = typer.Option(None, help="Series id of the extrusion rate, or of cumulative survey "
                                                     "volumes (DRE) turned into rates (default: the only one)."),
     ratio: str | None = typer.Option(None, help="Series id of a CO2/SO2 molar ratio: adds the CO2 flux total."),
     ratio_max_gap: str = typer.Option("7D", help="Longest distance a ratio measurement is carried."),
-    step: str = typer.Option("1D", help="Grid step."),
-    min_coverage: float = typer.Option(0.3, help="Bins with less coverage (0-1) are missing (a daylight-only "
-                                                 "scanner covers about 0.4 of a day)."),
+    step: str | None = typer.Option(None, help="Grid step (default: project, else 1D)."),
+    min_coverage: float | None = typer.Option(None, help="Bins with less coverage (0-1) are missing (a "
+                                                         "daylight-only scanner covers about 0.4 of a day; default: "
+                                                         "project, else 0.3)."),
     segments: str = typer.Option("changepoints", help="'changepoints' (on the gas flux) or 'none'."),
     s_mi: float | None = typer.Option(None, help="S in melt inclusions, ppm (enables the petrological method)."),
     s_mi_sd: float = typer.Option(0.0, help="1-sigma of S in melt inclusions, ppm."),
@@ -272,22 +364,33 @@ def budget(
     from degas.analysis.budget import PetrologyInputs, co2_flux, gas_budget
 
     if segments not in ("changepoints", "none"):
-        raise DegasError(f"unknown segments option {segments!r}; valid: changepoints, none")
-    picks = {"gas": (gas, ("gas_flux",), "gas flux"),
-             "q": (extrusion, ("extrusion_rate", "erupted_volume"), "extrusion rate")}
-    if ratio is not None:
-        picks["ratio"] = (ratio, ("gas_ratio",), "gas ratio")
-    tab, entries = _aligned(archive_dir, picks, step, min_coverage)
-    g, q = tab.pair("gas", "q")
-    seg = _segments(g, "gas")[["start", "end"]] if segments == "changepoints" else None
+        raise DegasError(f"unknown --segments {segments!r}; valid: changepoints, none")
     petro = None
     if s_mi is not None:
         petro = PetrologyInputs.from_ppm(s_mi, s_mg, s_mi_sd_ppm=s_mi_sd, s_mg_sd_ppm=s_mg_sd, density_kg_m3=density,
                                          density_sd=density_sd, crystal_fraction=crystals,
                                          crystal_fraction_sd=crystals_sd)
-    res = gas_budget(g, q, so2_uncertainty=tab.frame["gas_uncertainty"], extrusion_uncertainty=None, segments=seg,
-                     petrology=petro, error_correlation=error_correlation, n_monte_carlo=n_mc, seed=seed)
-    t = Table(title=f"Gas budget: {entries['gas'].series_id} vs {entries['q'].series_id}")
+    if project is not None:  # the report's budget: regimes as segments, the project's petrology and series
+        b = _run_project(archive_dir, project, ("regimes", "gas budget"), gas=gas, magma=extrusion, step=step,
+                         min_coverage=min_coverage, petrology=petro)
+        if b.budget is None:
+            raise DegasError("; ".join(b.skipped) or "the budget could not be computed")
+        res, tab, petro = b.budget, b.aligned, b.project.petrology
+        title = f"Gas budget: {', '.join(b.roles['gas'])} vs {b.roles['magma']} (segments: the regimes)"
+        g = tab.series("gas")
+    else:
+        picks = {"gas": (gas, ("gas_flux",), "gas flux"),
+                 "q": (extrusion, ("extrusion_rate", "erupted_volume"), "extrusion rate")}
+        if ratio is not None:
+            picks["ratio"] = (ratio, ("gas_ratio",), "gas ratio")
+        tab, entries = _aligned(archive_dir, picks, step or "1D", 0.3 if min_coverage is None else min_coverage)
+        g, q = tab.pair("gas", "q")
+        seg = _segments(g, "gas")[["start", "end"]] if segments == "changepoints" else None
+        res = gas_budget(g, q, so2_uncertainty=tab.frame["gas_uncertainty"], extrusion_uncertainty=None,
+                         segments=seg, petrology=petro, error_correlation=error_correlation, n_monte_carlo=n_mc,
+                         seed=seed)
+        title = f"Gas budget: {entries['gas'].series_id} vs {entries['q'].series_id}"
+    t = Table(title=title)
     cols = ["start", "end", "SO2 kt", "± kt (indep.)", "DRE Mm³", "kg SO2 / m³"]
     if petro is not None:
         cols += ["expected kt", "excess", "finding"]
@@ -304,7 +407,7 @@ def budget(
     console.print(t)
     notes = list(tab.notes + res.notes)
     payload: dict = {"segments": frame.to_dict("records"), "notes": notes}
-    if ratio is not None:
+    if ratio is not None and "ratio" in tab.kinds:
         co2 = co2_flux(g, tab.series("ratio"), max_gap=ratio_max_gap)
         total = float(np.nansum(co2.flux.to_numpy()) * tab.grid.step_s)
         console.print(f"CO2 emitted (bins with a ratio within {ratio_max_gap}): {total / 1e6:.4g} kt", markup=False)

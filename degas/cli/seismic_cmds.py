@@ -73,22 +73,38 @@ def quakes(
     source: Path = typer.Argument(..., help="Archive directory or a catalogue file (QuakeML, FDSN text, "
                                             "CSV, ...)."),
     series: str | None = typer.Option(None, help="Series id of the catalogue if the archive holds several."),
-    step: str = typer.Option("1D", help="Bin width for rates and energy, e.g. '1D', '7D', '6h'."),
+    project: Path | None = typer.Option(None, "--project", help="Project TOML: catalogue, bin width and b-value "
+                                                                "window as in the report."),
+    step: str | None = typer.Option(None, help="Bin width for rates and energy, e.g. '1D', '7D', '6h' (default: "
+                                               "project, else 1D)."),
     classes: str | None = typer.Option(None, help="Comma-separated classes to show (default all): "
                                                   + ", ".join(EVENT_CLASSES) + "."),
     mc_method: str = typer.Option("maxc", help="Completeness method: maxc (+0.2) or gft."),
     mc: float | None = typer.Option(None, help="Magnitude of completeness to use instead of estimating it."),
     bin_width: float = typer.Option(0.1, help="Magnitude bin width."),
     b_method: str = typer.Option("utsu", help="b-value estimator: utsu, tinti_mulargia, aki."),
-    window_events: int = typer.Option(500, help="Events per window for the b-value through time."),
+    window_events: int | None = typer.Option(None, help="Events per window for the b-value through time "
+                                                        "(default: project, else 500)."),
     min_events: int = typer.Option(50, help="Fewest events above Mc for a b-value."),
-    allow_mixed_types: bool = typer.Option(False, help="Accept a catalogue mixing magnitude types."),
+    allow_mixed_types: bool | None = typer.Option(None, help="Accept a catalogue mixing magnitude types (default: "
+                                                             "yes with --project, as the report; else no)."),
     csv: Path | None = typer.Option(None, "--csv", help="Write the per-bin metrics table to this CSV file."),
     json_out: Path | None = typer.Option(None, "--json", help="Write the summary as JSON."),
 ) -> None:
     """Seismicity of a catalogue: event rates per class, completeness, b-value ± sigma, energy."""
     from degas.analysis import seismicity as sz
 
+    if project is not None:
+        from degas.project import load_project
+
+        pj = load_project(project)
+        series = series or pj.catalog
+        step = step or pj.step
+        window_events = window_events or pj.b_window_events
+        allow_mixed_types = True if allow_mixed_types is None else allow_mixed_types
+    step = step or "1D"
+    window_events = window_events or 500
+    allow_mixed_types = bool(allow_mixed_types)
     catalog, read_notes = _load_catalog(source, series)
     cls = _parse_classes(classes)
     if type(catalog).__name__ == "ClassCounts":

@@ -73,6 +73,11 @@ def regime_sentences(bundle) -> list[Sentence]:
         return out
     iv = bundle.regimes.intervals
     munit = "m³/s DRE" if bundle.regimes.magma_measure == "extrusion_rate" else "(eruptive fraction)"
+    rel = getattr(bundle.regimes, "relation", None)
+    if rel is not None:  # the relation knows whether the DRE/bulk basis is known
+        from degas.analysis.relation import MAGMA_UNITS
+
+        munit = MAGMA_UNITS[rel.magma_measure] if rel.magma_measure != "eruptive_fraction" else "(eruptive fraction)"
     lp = bundle.changepoints.get("lp_hybrid_rate")
     for label, key in (("gas_only", "decoupled"), ("magma_only", "sealing")):
         for r in iv[iv["label"] == label].itertuples():
@@ -81,15 +86,21 @@ def regime_sentences(bundle) -> list[Sentence]:
             if label == "gas_only":
                 what = (f"Gas without magma output (decoupled degassing) from {_d(r.start)} until {_d(r.end)} "
                         f"({r.duration_days:.0f} days): SO2 {_num(r.gas_t_d)} t/d, {r.gas_to_baseline:.1f}× the "
-                        f"passive-degassing level (the lowest gas segment), while magma output was "
-                        f"{r.magma_level:.2g} {munit}.")
+                        f"background g0 of the gas–magma relation"
+                        + (f" and above the {_num(r.predicted_t_d)} t/d it predicts"
+                           if "predicted_t_d" in iv.columns else "")
+                        + f", while magma output was {r.magma_level:.2g} {munit}.")
             else:
                 if not np.isfinite(r.ratio_vs_expected):
                     continue  # without a reference gas-per-magma ratio the label is not supported: no sentence
                 what = (f"Magma output without matching gas (gas-poor output, possible sealing) from {_d(r.start)} "
                         f"until {_d(r.end)} ({r.duration_days:.0f} days): magma output {r.magma_level:.2g} {munit} "
-                        f"with SO2 {_num(r.gas_t_d)} t/d, {_num(r.ratio_vs_expected, 2)}× the gas per magma of the "
-                        "coupled intervals.")
+                        f"with SO2 {_num(r.gas_t_d)} t/d, "
+                        + (f"below the {_num(r.predicted_t_d)} t/d the gas–magma relation predicts "
+                           f"(band {_num(r.band_low_t_d)} to {_num(r.band_high_t_d)})"
+                           if "predicted_t_d" in iv.columns else "")
+                        + (f"; excess gas per output {_num(r.ratio_vs_expected, 2)}× the relation's k."
+                           if r.ratio_vs_expected > 0 else "; gas at or below the background g0."))
                 if lp is not None:
                     near = lp.changes[(lp.changes["time"] >= r.start - pd.Timedelta("21D"))
                                       & (lp.changes["time"] <= r.end)]
@@ -105,9 +116,48 @@ def regime_sentences(bundle) -> list[Sentence]:
     return out
 
 
+def verdict_sentence(bundle) -> Sentence | None:
+    """The record-level answer (issue 9): does gas track magma output? From the fitted relation."""
+    rel = getattr(bundle.regimes, "relation", None)
+    if rel is None:
+        return None
+    from degas.units import KG_S_TO_T_D
+
+    fraction = rel.magma_measure == "eruptive_fraction"
+    kunit = "t/d per unit eruptive fraction" if fraction else "kg SO2 per m³"
+    kscale = KG_S_TO_T_D if fraction else 1.0
+    if rel.magma_measure == "extrusion_rate":
+        kunit += " DRE"
+    elif rel.magma_measure == "extrusion_rate_unknown_basis":
+        kunit += " (DRE/bulk basis unknown)"
+    k = (f"k = {_num(rel.k * kscale)} {kunit} (95% {_num(rel.k_ci[0] * kscale)} to {_num(rel.k_ci[1] * kscale)})")
+    g0 = (f"background g0 = {_num(rel.g0_kg_s * KG_S_TO_T_D)} t/d "
+          + ("(given)" if rel.background_given else
+             f"(95% {_num(rel.g0_ci[0] * KG_S_TO_T_D)} to {_num(rel.g0_ci[1] * KG_S_TO_T_D)})"))
+    fit = f"SO2 = g0 + k·output(t {rel.lag_days:+.0f} d): {g0}, {k}, R² = {rel.r_squared:.2f} on {rel.n_fit_days} days"
+    petro = ""
+    if np.isfinite(rel.petrological_k):
+        petro = (f"; petrological expectation (Devine et al. 1984) {_num(rel.petrological_k)} kg SO2 per m³ DRE "
+                 f"(95% {_num(rel.petrological_k_ci[0])} to {_num(rel.petrological_k_ci[1])})")
+    if rel.independent:
+        text = (f"Record-level verdict: gas independent of magma output ({fit}{petro}); no stretch is labelled "
+                "coupled.")
+    else:
+        lags = getattr(bundle.regimes, "lags", None)
+        lag = ""
+        if lags is not None and lags.lag_ci is not None:
+            lag = (f"; inside the coupled stretches gas leads output by {lags.lag_days:+.0f} d (95% "
+                   f"{lags.lag_ci[0] / DAY:+.0f} to {lags.lag_ci[1] / DAY:+.0f} d; positive = gas leads)")
+        text = f"Record-level verdict: gas tracks magma output ({fit}{petro}){lag}."
+    return Sentence("verdict", text)
+
+
 def summarise(bundle) -> list[Sentence]:
-    """The summary sentences for a run, most important first."""
+    """The summary sentences for a run, most important first (the record-level verdict first of all)."""
     out: list[Sentence] = []
+    v = verdict_sentence(bundle)
+    if v is not None:
+        out.append(v)
     per = bundle.periods
     if per is not None and bundle.regimes is not None:
         now, prev = bundle.review_regime.get("window"), bundle.review_regime.get("previous")
@@ -143,6 +193,10 @@ def summarise(bundle) -> list[Sentence]:
     if bundle.xcorr is not None:
         span = ("Whole record" if bundle.mode == "weekly" else
                 f"Episode {_d(bundle.start)} to {_d(bundle.end - pd.Timedelta(1, 'ns'))}")
+        reg = bundle.regimes
+        if reg is not None and getattr(reg, "steps_dominate", False):
+            span += (f" (context only: regime changes dominate, segment means carry {reg.step_share[0]:.0%} of the "
+                     f"SO2 and {reg.step_share[1]:.0%} of the output variance)")
         out.append(lag_sentence("lag:record", bundle.xcorr, f"{span}, SO2 against magma output"))
     for s, e, _label, res in bundle.xcorr_intervals:
         out.append(lag_sentence(f"lag:{_d(s)}", res, f"Coupled interval {_d(s)} to {_d(e)}"))

@@ -103,3 +103,22 @@ def test_demo_regimes_recovered_from_change_point_segments():
         assert share.max() >= 0.85
     sealing = f[f.label == "magma_only"].iloc[0]
     assert sealing.ratio_vs_expected < 0.3
+
+
+def test_relation_regimes_with_a_given_background():
+    # invented record (tests/analysis/scenario_bank.py): 120-day pause in output with sustained degassing
+    from degas.analysis.regimes import classify_from_relation
+    from tests.analysis.scenario_bank import make_record
+
+    rec = make_record("pause_sustained_degassing", 0)
+    g0 = rec["truth"]["g0_t_d"] / T_D
+    res = classify_from_relation(rec["gas"], rec["magma"], gas_background=g0, n_boot=100)
+    assert res.relation.background_given and res.relation.g0_kg_s == g0 and res.gas_baseline_kg_s == g0
+    mid = res.intervals[(res.intervals["start"] <= pd.Timestamp("2040-07-01", tz="UTC"))
+                        & (res.intervals["end"] > pd.Timestamp("2040-07-01", tz="UTC"))]
+    assert mid["label"].iloc[0] == "gas_only"
+    # levels are the data's own means over each regime
+    sel = (rec["gas"].index >= mid["start"].iloc[0]) & (rec["gas"].index < mid["end"].iloc[0])
+    assert mid["gas_t_d"].iloc[0] == pytest.approx(rec["gas"][sel].mean() * T_D)
+    with pytest.raises(DegasError, match="band"):
+        classify_from_relation(rec["gas"], rec["magma"], band=1.5)
