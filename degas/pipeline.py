@@ -396,12 +396,20 @@ def _seismicity(b: RunBundle) -> None:
     p = b.project
     b.seismic["rates"] = s.event_rates(cat, p.step)
     b.seismic["energy"] = s.seismic_energy(cat, p.step, allow_mixed_types=True)
-    b.seismic["fmd"] = s.frequency_magnitude(cat, allow_mixed_types=True)
+    b_cls, b_notes = s.b_value_classes(cat)  # VT by default; rockfalls never (issue 13)
+    b.seismic["b_classes"] = b_cls
+    b.notes.extend(f"b-value: {n}" for n in b_notes)
+    b.seismic["fmd"] = s.frequency_magnitude(cat, classes=b_cls, allow_mixed_types=True)
     try:
-        b.seismic["b_value"] = s.estimate_b_value(cat, allow_mixed_types=True)
-        b.seismic["b_series"] = s.b_value_series(cat, window=p.b_window_events, allow_mixed_types=True)
+        b.seismic["b_value"] = s.estimate_b_value(cat, classes=b_cls, allow_mixed_types=True)
+        b.seismic["b_series"] = s.b_value_series(cat, window=p.b_window_events, classes=b_cls,
+                                                 mc=b.seismic["b_value"].mc, allow_mixed_types=True)
     except DegasError as exc:
-        b.skipped.append(f"b-value: not run: {exc}")
+        b.skipped.append(f"b-value ({'+'.join(b_cls)}): not run: {exc}")
+    try:  # LP + hybrid separately, never mixed with VT
+        b.seismic["b_value_lp"] = s.estimate_b_value(cat, classes=p.lp_classes, allow_mixed_types=True)
+    except DegasError as exc:
+        b.notes.append(f"b-value of {'+'.join(p.lp_classes)}: not computed: {exc}")
     try:
         b.seismic["depths"] = s.summarise_depths(cat, "30D")
     except DegasError as exc:
@@ -430,6 +438,7 @@ def _review(b: RunBundle) -> None:
                            ("baseline", (t >= per.baseline_start) & (t < per.window_start))):
             try:
                 b.review_regime[f"b_{label}"] = estimate_b_value(cat.with_data(cat.data.loc[sel]),
+                                                                 classes=b.seismic.get("b_classes", ("VT",)),
                                                                  allow_mixed_types=True, min_events=30)
             except DegasError as exc:
                 b.review_regime[f"b_{label}"] = str(exc)
