@@ -381,10 +381,53 @@ def _budget(b: RunBundle) -> None:
         seg = b.changepoints["gas"].segments[["start", "end"]]
     petro = b.project.petrology
     unc = b.aligned.frame.get("magma_uncertainty")
-    b.budget = gas_budget(g, q, so2_uncertainty=b.aligned.frame["gas_uncertainty"], extrusion_uncertainty=unc,
-                          segments=seg, petrology=petro, seed=b.project.seed)
+    g, gu, stations, systematic = _budget_gas(b, g)
+    b.budget = gas_budget(g, q, so2_uncertainty=gu, extrusion_uncertainty=unc,
+                          segments=seg, petrology=petro, seed=b.project.seed, station_flux=stations,
+                          systematic=systematic)
     if "ratio" in b.aligned.kinds:
         b.co2 = co2_flux(g, b.aligned.series("ratio"), max_gap="7D")
+
+
+def _budget_gas(b: RunBundle, g: pd.Series):
+    """Daily SO2 flux for the budget from quality-screened scans, per station, and each station's systematic
+    1σ (project [budget]); flagged scans are excluded and the notes say how many (issue 13)."""
+    from degas.align import align
+    from degas.analysis.budget import usable_scans
+
+    p = b.project
+    recs, dropped = {}, {}
+    for sid in b.roles["gas"]:
+        rec = b.records[sid]
+        ok, bad = usable_scans(rec.data["quality"] if "quality" in rec.data else pd.Series(pd.NA, index=rec.data.index),
+                               p.good_flags)
+        recs[sid] = rec.with_data(rec.data.loc[ok].reset_index(drop=True)) if not ok.all() else rec
+        for k, v in bad.items():
+            dropped[k] = dropped.get(k, 0) + v
+    idx = b.aligned.frame.index
+    try:
+        tab = align(recs, p.step, min_coverage=p.min_coverage, start=idx[0], end=idx[-1] + (idx[1] - idx[0])
+                    - pd.Timedelta(1, "ns"))
+    except DegasError:
+        return g, b.aligned.frame["gas_uncertainty"], None, 0.0
+    f = tab.frame.reindex(idx)
+    cols = list(b.roles["gas"])
+    vals = f[cols].to_numpy(dtype=float)
+    n = np.sum(np.isfinite(vals), axis=1)
+    with np.errstate(all="ignore"), warnings.catch_warnings():
+        warnings.simplefilter("ignore", RuntimeWarning)
+        gas = pd.Series(np.nanmean(vals, axis=1), idx)
+        unc = f[[f"{c}_uncertainty" for c in cols]].to_numpy(dtype=float)
+        gu = pd.Series(np.sqrt(np.nansum(unc**2, axis=1)) / np.where(n > 0, n, np.nan), idx)
+    if dropped:
+        b.notes.append("gas budget: scans flagged " + ", ".join(f"{k!r} ({v})" for k, v in sorted(dropped.items()))
+                       + f" excluded; scans with no flag or one of {', '.join(p.good_flags)} used")
+    by = dict(p.systematic_by_station)
+    systematic = {}
+    for sid in cols:
+        st = b.records[sid].meta.station or sid
+        systematic[sid] = float(by.get(sid, by.get(st, p.systematic)))
+    return gas, gu, f[cols], systematic
 
 
 def _seismicity(b: RunBundle) -> None:

@@ -390,3 +390,16 @@ def co2_flux(so2_flux: pd.Series, co2_so2_molar: pd.Series, *, max_gap: str | pd
     if lost:
         notes.append(f"{lost} SO2 flux values lie more than {gap} from any CO2/SO2 measurement: CO2 flux left missing")
     return Co2FluxResult(flux, ratio, gap, tuple(notes))
+
+
+def usable_scans(quality: pd.Series, good_flags: tuple[str, ...] = ("good", "ok", "valid", "buena")
+                 ) -> tuple[np.ndarray, dict[str, int]]:
+    """Which scans enter the budget: no quality flag, or one of ``good_flags`` (case and spaces ignored).
+
+    Returns the boolean mask and the count of excluded scans per flag. Flags such as cloud (flux biased low)
+    or low wind (poor plume speed) mark scans whose flux is not trusted; they are excluded, not down-weighted.
+    """
+    q = quality.astype("string").str.strip().str.lower()
+    ok = (q.isna() | (q == "") | q.isin(list(good_flags))).to_numpy(dtype=bool)
+    bad = q[~ok].value_counts()
+    return ok, {str(k): int(v) for k, v in bad.items()}

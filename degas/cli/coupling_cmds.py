@@ -263,6 +263,8 @@ def budget(
     crystals: float = typer.Option(0.0, help="Crystal volume fraction, 0-1."),
     crystals_sd: float = typer.Option(0.0, help="1-sigma of the crystal fraction."),
     error_correlation: str = typer.Option("independent", help="Flux errors 'independent' per bin or 'correlated'."),
+    systematic: float = typer.Option(0.20, help="Fractional 1-sigma systematic flux error (plume speed, geometry), "
+                                                "fully correlated over the record; 0.20 is common practice."),
     n_mc: int = typer.Option(10_000, "--monte-carlo", help="Monte Carlo draws."),
     seed: int = typer.Option(0, help="Random seed."),
     csv: Path | None = typer.Option(None, "--csv", help="Write the per-segment budget to CSV."),
@@ -286,9 +288,10 @@ def budget(
                                          density_sd=density_sd, crystal_fraction=crystals,
                                          crystal_fraction_sd=crystals_sd)
     res = gas_budget(g, q, so2_uncertainty=tab.frame["gas_uncertainty"], extrusion_uncertainty=None, segments=seg,
-                     petrology=petro, error_correlation=error_correlation, n_monte_carlo=n_mc, seed=seed)
+                     petrology=petro, error_correlation=error_correlation, n_monte_carlo=n_mc, seed=seed,
+                     systematic=systematic)
     t = Table(title=f"Gas budget: {entries['gas'].series_id} vs {entries['q'].series_id}")
-    cols = ["start", "end", "SO2 kt", "± kt (indep.)", "DRE Mm³", "kg SO2 / m³"]
+    cols = ["start", "end", "SO2 kt", "± kt (indep.)", "± kt (total)", "DRE Mm³", "kg SO2 / m³"]
     if petro is not None:
         cols += ["expected kt", "excess", "finding"]
     for c in cols:
@@ -296,7 +299,8 @@ def budget(
     frame = res.to_frame()
     for r in frame.to_dict("records"):
         row = [_fmt(r["start"]), _fmt(r["end"]), f"{r['so2_mass_kg'] / 1e6:.3g}",
-               _fmt(r["so2_mass_sd_independent_kg"] / 1e6), f"{r['dre_volume_m3'] / 1e6:.3g}",
+               _fmt(r["so2_mass_sd_independent_kg"] / 1e6), _fmt(r["so2_mass_sd_total_kg"] / 1e6),
+               f"{r['dre_volume_m3'] / 1e6:.3g}",
                _fmt(r["ratio_kg_per_m3"])]
         if petro is not None:
             row += [_fmt(r["expected_so2_kg"] / 1e6), _fmt(r["excess_factor"], ".2f"), r["finding"]]
