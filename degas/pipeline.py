@@ -48,6 +48,7 @@ class RunBundle:
     granger: object | None = None
     budget: object | None = None
     co2: object | None = None
+    volumes: object | None = None  # VolumeComparison: survey volumes vs the summed rate series
     seismic: dict = field(default_factory=dict)
     periods: object | None = None
     review: list = field(default_factory=list)
@@ -160,6 +161,7 @@ def run_all(archive: Archive, project: Project, *, mode: str = "weekly", before:
     step("rolling coupling", lambda: _rolling(b))
     step("Granger tests", lambda: _granger(b))
     step("gas budget", lambda: _budget(b))
+    step("erupted volume", lambda: _volumes(b))
     step("seismicity", lambda: _seismicity(b))
     step("weekly review", lambda: _review(b))
     return b
@@ -387,6 +389,21 @@ def _budget(b: RunBundle) -> None:
                           systematic=systematic)
     if "ratio" in b.aligned.kinds:
         b.co2 = co2_flux(g, b.aligned.series("ratio"), max_gap="7D")
+
+
+def _volumes(b: RunBundle) -> None:
+    """Survey volumes and the rate series side by side, when the archive holds both."""
+    from degas.analysis.budget import compare_volumes
+
+    if b.aligned.kinds.get("magma") != "extrusion_rate" or b.archive is None:
+        return
+    surveys = [e for e in b.archive.entries() if e.meta.kind == "erupted_volume"]
+    if not surveys:
+        return
+    rec = b.archive.load(surveys[0].series_id)
+    d = rec.data
+    b.volumes = compare_volumes(d["time"], d["value"].to_numpy(), b.aligned.series("magma"),
+                                d["uncertainty"].to_numpy() if "uncertainty" in d else None)
 
 
 def _budget_gas(b: RunBundle, g: pd.Series):

@@ -403,3 +403,72 @@ def usable_scans(quality: pd.Series, good_flags: tuple[str, ...] = ("good", "ok"
     ok = (q.isna() | (q == "") | q.isin(list(good_flags))).to_numpy(dtype=bool)
     bad = q[~ok].value_counts()
     return ok, {str(k): int(v) for k, v in bad.items()}
+
+
+@dataclass(frozen=True)
+class VolumeComparison:
+    """Erupted DRE volume two ways over the same span: survey difference and summed rate series.
+
+    ``survey_m3`` = last minus first survey (m³ DRE) inside the span; ``rate_m3`` = Σ rate × bin length over
+    the bins with a rate value in [first survey, last survey) (m³ DRE); ``rate_coverage`` is the share of those
+    bins with a value; below 1 the rate total is a lower bound (missing days count as zero) and
+    ``rate_is_lower_bound`` says so. ``difference_m3`` = rate − survey; ``ratio`` = rate / survey.
+    """
+
+    start: pd.Timestamp
+    end: pd.Timestamp
+    survey_m3: float
+    survey_sd_m3: float
+    rate_m3: float
+    rate_coverage: float
+    rate_is_lower_bound: bool
+    difference_m3: float
+    ratio: float
+    notes: tuple[str, ...] = field(default=())
+
+    def to_frame(self) -> pd.DataFrame:
+        return pd.DataFrame([{k: getattr(self, k) for k in (
+            "start", "end", "survey_m3", "survey_sd_m3", "rate_m3", "rate_coverage", "rate_is_lower_bound",
+            "difference_m3", "ratio")}])
+
+
+def compare_volumes(survey_times: pd.Series, survey_m3: np.ndarray, rate_m3_s: pd.Series,
+                    survey_sd_m3: np.ndarray | None = None) -> VolumeComparison:
+    """Survey volumes against the summed rate series over the span between the first and last survey.
+
+    Parameters
+    ----------
+    survey_times : UTC times of the cumulative survey volumes (at least two).
+    survey_m3 : cumulative DRE volume at each survey, m³.
+    rate_m3_s : extrusion rate, m³/s DRE, on a regular UTC grid (NaN = missing).
+    survey_sd_m3 : 1σ of each survey volume, m³ (the difference's σ adds the two ends in quadrature).
+    """
+    t = pd.DatetimeIndex(pd.to_datetime(survey_times, utc=True))
+    v = np.asarray(survey_m3, dtype=float)
+    ok = np.isfinite(v)
+    t, v = t[ok], v[ok]
+    idx = rate_m3_s.index
+    if len(idx) < 2:
+        raise NotEnoughDataError("the rate series needs at least two grid bins")
+    inside = (t >= idx[0]) & (t <= idx[-1] + (idx[1] - idx[0]))
+    t, v = t[inside], v[inside]
+    if len(t) < 2:
+        raise NotEnoughDataError("fewer than two surveys inside the rate series' span")
+    order = np.argsort(t)
+    t, v = t[order], v[order]
+    sd = np.zeros(len(v)) if survey_sd_m3 is None else np.asarray(survey_sd_m3, dtype=float)[ok][inside][order]
+    start, end = t[0], t[-1]
+    sel = (idx >= start.floor("D")) & (idx < end.floor("D"))
+    dt = (idx[1] - idx[0]).total_seconds()
+    q = rate_m3_s.to_numpy(dtype=float)[sel]
+    have = np.isfinite(q)
+    cov = float(have.mean()) if q.size else 0.0
+    rate_total = float(q[have].sum() * dt)
+    survey = float(v[-1] - v[0])
+    notes = []
+    if cov < 1:
+        notes.append(f"the rate series covers {cov:.0%} of the days between the first and last survey: its "
+                     "total is a lower bound")
+    return VolumeComparison(start, end, survey, float(np.hypot(np.nan_to_num(sd[0]), np.nan_to_num(sd[-1]))),
+                            rate_total, cov, cov < 1, rate_total - survey,
+                            rate_total / survey if survey > 0 else np.nan, tuple(notes))
