@@ -36,8 +36,8 @@ def _num(x: float, digits: int = 3) -> str:
 
 
 QUANTITY_NAMES = {"so2_flux": "SO2 flux", "co2_flux": "CO2 flux", "h2s_flux": "H2S flux",
-                  "extrusion_rate": "extrusion rate", "co2_so2_ratio": "CO2/SO2 ratio", "rsam": "RSAM",
-                  "ssam": "SSAM"}
+                  "extrusion_rate": "extrusion rate", "co2_so2_ratio": "CO2/SO2 ratio", "rsam": "seismic amplitude",
+                  "ssam": "seismic spectral amplitude", "amplitude": "seismic amplitude"}
 
 
 def _name(quantity: str) -> str:
