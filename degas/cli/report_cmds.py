@@ -64,6 +64,37 @@ def _run(archive_dir: Path, project: Path | None, before: str | None, start: str
     return bundle
 
 
+def print_brief(bundle) -> None:
+    """The one-screen brief in the terminal: rows by what matters, thresholds crossed, the regime."""
+    from degas.report.brief import THRESHOLD_NOTE, brief_rows, regime_line
+
+    rows = brief_rows(bundle)
+    per = bundle.periods
+    t = Table(title=f"Brief: week {per.window_start:%Y-%m-%d} to {(per.window_end - pd.Timedelta('1D')):%Y-%m-%d} "
+                    f"(last day included)", box=box.SIMPLE_HEAD)
+    for c in ("series", "unit", "weeks (oldest → this)", "this week", "last week", "baseline", "× baseline (95 %)",
+              "coverage", "threshold"):
+        t.add_column(c, no_wrap=True)
+
+    def g(x) -> str:
+        return "-" if x is None or not np.isfinite(x) else (f"{x:,.0f}" if abs(x) >= 1000 else f"{x:.3g}")
+
+    for r in rows:
+        ci = f" ({g(r.ratio_low)}-{g(r.ratio_high)})" if np.isfinite(r.ratio_low) else ""
+        t.add_row(r.name, r.unit, " ".join(g(v) for v in r.weeks["value"]), g(r.now), g(r.last), g(r.baseline),
+                  ("-" if not np.isfinite(r.ratio) else f"{g(r.ratio)}{ci}"),
+                  "-" if r.coverage is None else f"{r.coverage:.0%}", "CROSSED" if r.crossed else "")
+    out = Console(width=max(console.width, 150), highlight=False)
+    out.print(t)
+    out.print(regime_line(bundle), markup=False)
+    for r in rows:
+        for c in r.crossed:
+            out.print(f"threshold crossed: {r.name}: {c}", markup=False)
+    if not bundle.project.thresholds:
+        out.print("no working thresholds in the project file ([thresholds])", markup=False)
+    out.print(THRESHOLD_NOTE, markup=False)
+
+
 def print_summary(bundle) -> None:
     from degas.report.summary import summarise
 
@@ -83,6 +114,7 @@ def weekly(
     from degas.safecsv import protect_frame
 
     bundle = _run(archive_dir, project, before, None, None)
+    print_brief(bundle)
     per = bundle.periods
     t = Table(title=f"Week {per.window_start:%Y-%m-%d} to {(per.window_end - pd.Timedelta('1D')):%Y-%m-%d} vs "
                     f"{per.baseline_days:.0f}-day baseline", box=box.SIMPLE_HEAD)
@@ -119,8 +151,13 @@ def report(
     from degas.report import write_report
 
     bundle = _run(archive_dir, project, before, start, end)
-    path = write_report(bundle, out, appendix)
+    messages: list[str] = []
+    path = write_report(bundle, out, appendix, messages)
+    if bundle.mode == "weekly":
+        print_brief(bundle)
     print_summary(bundle)
+    for m in messages:
+        console.print(m, markup=False)
     console.print(f"report: {path}", markup=False)
     if appendix is not None:
         console.print(f"appendix: {appendix}", markup=False)
