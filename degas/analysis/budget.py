@@ -314,6 +314,7 @@ def gas_budget(
             "ratio_p97_5_kg_per_m3": r_hi,
             "so2_mass_both_kg": mb,
             "dre_volume_both_m3": vb,
+            "days_both": int(both.sum()),
         }
         if per_m3 is not None:
             exp_s = vb * per_m3

@@ -124,8 +124,8 @@ def quakes(
     if bval is not None:
         comp = bval.completeness
         how = f"{comp.method}, +{comp.correction:g}" if comp is not None else "given"
-        console.print(f"{'+'.join(b_cls)} events: Mc = {bval.mc:g} ({how}); b = {bval.b:.3f} ± {bval.sigma:.3f} (Shi & Bolt), "
-                      f"a = {bval.a:.2f}, n = {bval.n}, method {bval.method}", markup=False)
+        console.print(f"{'+'.join(b_cls)} events: Mc = {bval.mc:g} ({how}); b = {bval.b:.3f} ± {bval.sigma:.3f} "
+                      f"(Shi & Bolt), a = {bval.a:.2f}, n = {bval.n}, method {bval.method}", markup=False)
     else:
         console.print(f"b-value not available: {b_problem}", markup=False)
     if bseries is not None:

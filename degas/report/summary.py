@@ -151,13 +151,16 @@ def summarise(bundle) -> list[Sentence]:
         if np.isfinite(o.get("excess_factor", np.nan)):
             al = bundle.aligned.frame
             both = int((al["gas"].notna() & al["magma"].notna()).sum()) if "magma" in al else 0
+            both = int(o.get("days_both", both))  # the budget's own days (flagged scans excluded)
             out.append(Sentence(
                 "budget:overall",
                 f"Gas budget {_d(o['start'])} until {_d(o['end'])}: {_num(o['so2_mass_kg'] / 1e6)} ± "
-                f"{_num(o['so2_mass_sd_correlated_kg'] / 1e6, 2)} kt SO2 (1σ, errors fully correlated; lower bound, "
+                f"{_num(o['so2_mass_sd_total_kg'] / 1e6)} kt SO2 (1σ, scan errors and per-station systematic "
+                f"plume-speed/geometry terms; flagged scans excluded; lower bound, "
                 f"gas coverage {o['gas_coverage']:.0%}) and {o['dre_volume_m3'] / 1e6:.3g} Mm³ DRE erupted; on the "
-                f"{both} days with both, {o['ratio_kg_per_m3']:.3g} ± {o['ratio_sd_kg_per_m3']:.2g} (1σ) kg SO2 per "
-                f"m³ DRE; observed/petrological SO2 = {o['excess_factor']:.2f} (95% {o['excess_p2_5']:.2f} to "
+                f"{both} days with both, {o['ratio_kg_per_m3']:.3g} kg SO2 per m³ DRE (95% "
+                f"{o['ratio_p2_5_kg_per_m3']:.3g} to {o['ratio_p97_5_kg_per_m3']:.3g}); "
+                f"observed/petrological SO2 = {o['excess_factor']:.2f} (95% {o['excess_p2_5']:.2f} to "
                 f"{o['excess_p97_5']:.2f}): {o['finding'] or 'no finding'}."))
     for name, cp in bundle.changepoints.items():
         if per is None:
