@@ -360,7 +360,8 @@ def write_appendix(bundle, directory: Path, figs: dict | None = None, messages: 
         p = directory / "aligned_daily.csv"
         protect_frame(daily).to_csv(p, index=False)
         paths.append(p)
-    static, problem = A.write_static_figures(figs, directory / "static")
+    static, problem = A.write_static_figures(figs, directory / "static",
+                                             title=f"{bundle.project.volcano}: figures of {report_name(bundle)}")
     paths += static
     if problem and messages is not None:
         messages.append(problem)

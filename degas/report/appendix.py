@@ -141,9 +141,11 @@ def static_export_problem() -> str | None:
     return None if find_browser() else STATIC_HINT
 
 
-def write_static_figures(figs: dict, directory: Path, formats: tuple[str, ...] = ("png", "svg", "pdf"),
-                         width: int = 1100, scale: float = 2.0) -> tuple[list[Path], str | None]:
-    """Write every figure as PNG, SVG and PDF with plotly's exporter; returns (paths, problem line or None)."""
+def write_static_figures(figs: dict, directory: Path, formats: tuple[str, ...] = ("png", "svg"),
+                         width: int = 1100, scale: float = 2.0, title: str = "Figures"
+                         ) -> tuple[list[Path], str | None]:
+    """Write every figure as PNG and SVG with plotly's exporter, and one PDF of all figures (the SVGs with their
+    captions, printed by the same Chromium); returns (paths, problem line or None)."""
     problem = static_export_problem()
     if problem:
         return [], problem
@@ -164,4 +166,38 @@ def write_static_figures(figs: dict, directory: Path, formats: tuple[str, ...] =
                                                                           for i in items])
     except Exception as exc:  # noqa: BLE001 - the exporter's failures (browser crash, timeout) become one line
         return [], f"static figures not written: {type(exc).__name__}: {str(exc).splitlines()[0] if str(exc) else ''}"
+    if "svg" in formats:
+        pdf, problem = _figures_pdf(figs, directory, title)
+        if pdf is None:
+            return paths, problem
+        paths.append(pdf)
     return paths, None
+
+
+def _figures_pdf(figs: dict, directory: Path, title: str) -> tuple[Path | None, str | None]:
+    """One PDF of every figure (SVG, vector) with its caption, printed by headless Chromium."""
+    import html
+    import subprocess
+    import tempfile
+
+    parts = [f"<h1>{html.escape(title)}</h1>"]
+    for fid, (_fig, cap) in figs.items():
+        parts.append(f'<figure><img src="{fid}.svg" alt="{html.escape(fid)}"><figcaption>{html.escape(fid)}. '
+                     f"{html.escape(cap or '')}</figcaption></figure>")
+    page = directory / "figures-print.html"
+    page.write_text("<!DOCTYPE html><html><head><meta charset='utf-8'><style>body{font-family:sans-serif;"
+                    "font-size:10pt}figure{margin:0 0 14pt;break-inside:avoid}img{width:100%}"
+                    "figcaption{font-size:9pt;color:#333}</style></head><body>" + "".join(parts) + "</body></html>",
+                    encoding="utf-8")
+    out = directory / "figures.pdf"
+    with tempfile.TemporaryDirectory() as prof:
+        try:
+            subprocess.run([find_browser() or "chromium", "--headless", "--no-sandbox", "--disable-gpu",
+                            "--no-first-run", f"--user-data-dir={prof}", "--no-pdf-header-footer",
+                            f"--print-to-pdf={out}", page.resolve().as_uri()], capture_output=True, timeout=180)
+        except (OSError, subprocess.SubprocessError) as exc:
+            return None, f"figures.pdf not written: {exc}"
+    page.unlink(missing_ok=True)
+    if not out.exists() or out.stat().st_size == 0:
+        return None, "figures.pdf not written: the browser printed nothing"
+    return out, None

@@ -190,8 +190,10 @@ def _legends_beside_panels(fig: go.Figure, n_rows: int) -> None:
         for tr in shading:
             tr.legend = name
         fig.layout[name] = dict(x=0, xanchor="left", y=1.0, yanchor="bottom", orientation="h", font=dict(size=10),
-                                title=dict(text="regime shading:"))
-    fig.update_layout(margin=dict(r=230, t=90))
+                                title=dict(text="regime shading:", side="top"), entrywidth=0.5,
+                                entrywidthmode="fraction")
+    fig.update_layout(margin=dict(r=230, t=150), title=dict(y=1.0, yref="container", yanchor="top",
+                                                            pad=dict(t=12)))
 
 
 def xcorr_figure(res, title: str = "Lagged cross-correlation (positive lag = gas leads magma output)") -> go.Figure:

@@ -24,44 +24,62 @@ def offsets_km(lat_deg, lon_deg, lat0_deg: float, lon0_deg: float) -> tuple[np.n
     return EARTH_RADIUS_KM * dlam * np.cos(phi0), EARTH_RADIUS_KM * (lat - phi0)
 
 
-def location_figures(bundle) -> list[tuple[str, go.Figure, str]]:
-    """(id, figure, caption) for the depth-time plot and the plan view; empty without located events."""
-    cat = bundle.records.get("catalog")
-    if cat is None:
-        return []
-    d = cat.data
-    ok = d["latitude_deg"].notna() & d["longitude_deg"].notna()
-    if not ok.any():
-        return []
-    d = d.loc[ok]
-    p = bundle.project
-    if p.vent_latitude is not None and p.vent_longitude is not None:
-        lat0, lon0, ref = p.vent_latitude, p.vent_longitude, "the vent (project file)"
-    else:
-        lat0, lon0 = float(d["latitude_deg"].median()), float(d["longitude_deg"].median())
-        ref = "the median epicentre (no vent position in the project file)"
-    x, y = offsets_km(d["latitude_deg"], d["longitude_deg"], lat0, lon0)
-    depth_km = d["depth_m"].to_numpy(dtype=float) / 1000.0
+def _catalogues(bundle) -> list:
+    """The run's catalogue first, then any other catalogue in the archive (clipped to the run's span)."""
+    out = [bundle.records["catalog"]] if "catalog" in bundle.records else []
+    if bundle.archive is not None:
+        used = {c.meta.series_id for c in out}
+        for e in bundle.archive.find(kind="seismic_catalog"):
+            if e.series_id not in used:
+                c = bundle.archive.load(e.series_id)
+                t = c.data["time"]
+                out.append(c.with_data(c.data.loc[(t >= bundle.start) & (t < bundle.end)].reset_index(drop=True)))
+    return out
+
+
+def _traces(fig: go.Figure, d, x, y) -> None:
     cls = d["event_class"].astype("string").fillna("other").to_numpy()
-    dt = go.Figure()
-    plan = go.Figure()
     for c in ("VT", "hybrid", "LP", "explosion", "tremor", "rockfall", "other"):
-        sel = cls == c
-        if not sel.any():
-            continue
-        mk = dict(size=4, opacity=0.6, color=CLASS_COLOURS.get(c, "#555"))
-        if np.isfinite(depth_km[sel]).any():
-            dt.add_trace(go.Scattergl(x=d["time"][sel], y=depth_km[sel], mode="markers", marker=mk, name=c,
-                                      visible=True if c == "VT" else "legendonly"))
-        plan.add_trace(go.Scattergl(x=x[sel], y=y[sel], mode="markers", marker=mk, name=c,
-                                    visible=True if c == "VT" else "legendonly"))
-    plan.add_trace(go.Scatter(x=[0], y=[0], mode="markers", marker=dict(symbol="triangle-up", size=13,
-                                                                         color="#111"), name="vent"))
-    dt.update_layout(**LAYOUT, height=340, title="Depth of located events through time (VT shown; click the "
-                     "legend for other classes)", yaxis=dict(title="depth below sea level (km)", autorange="reversed"))
-    plan.update_layout(**LAYOUT, height=520, width=620, title=f"Epicentres in km from {ref.split(' (')[0]}",
-                       xaxis=dict(title="km east", zeroline=True), yaxis=dict(title="km north", scaleanchor="x",
-                                                                              scaleratio=1, zeroline=True))
-    cap = f"Distances from {ref}, local flat projection; no basemap so that the page stays offline."
-    return [("fig-depth-time", dt, "Depth is below sea level as the catalogue gives it."),
-            ("fig-epicentres", plan, cap)]
+        sel = (cls == c) & np.isfinite(np.asarray(y, dtype=float))
+        if sel.any():
+            fig.add_trace(go.Scattergl(x=np.asarray(x)[sel], y=np.asarray(y)[sel], mode="markers", name=c,
+                                       marker=dict(size=4, opacity=0.6, color=CLASS_COLOURS.get(c, "#555")),
+                                       visible=True if c == "VT" else "legendonly"))
+
+
+def location_figures(bundle) -> list[tuple[str, go.Figure, str]]:
+    """(id, figure, caption) for the depth-time plot and the plan view, each from the first catalogue (the
+    run's own, then the archive's others) that has depths or epicentres; empty without located events."""
+    out = []
+    cats = _catalogues(bundle)
+    deep = next((c for c in cats if c.data["depth_m"].notna().any()), None)
+    if deep is not None:
+        d = deep.data
+        fig = go.Figure()
+        _traces(fig, d, d["time"], d["depth_m"].to_numpy(dtype=float) / 1000.0)
+        fig.update_layout(**LAYOUT, height=340, title="Depth of located events through time (VT shown; click the "
+                          "legend for other classes)", yaxis=dict(title="depth below sea level (km)",
+                                                                  autorange="reversed"))
+        out.append(("fig-depth-time", fig, f"Catalogue {deep.meta.series_id}; depth below sea level as the "
+                                           "catalogue gives it."))
+    located = next((c for c in cats if (c.data["latitude_deg"].notna() & c.data["longitude_deg"].notna()).any()),
+                   None)
+    if located is not None:
+        d = located.data.loc[located.data["latitude_deg"].notna() & located.data["longitude_deg"].notna()]
+        p = bundle.project
+        if p.vent_latitude is not None and p.vent_longitude is not None:
+            lat0, lon0, ref = p.vent_latitude, p.vent_longitude, "the vent (position from the project file)"
+        else:
+            lat0, lon0 = float(d["latitude_deg"].median()), float(d["longitude_deg"].median())
+            ref = "the median epicentre (no vent position in the project file)"
+        x, y = offsets_km(d["latitude_deg"], d["longitude_deg"], lat0, lon0)
+        fig = go.Figure()
+        _traces(fig, d, x, y)
+        fig.add_trace(go.Scatter(x=[0], y=[0], mode="markers", name="vent",
+                                 marker=dict(symbol="triangle-up", size=13, color="#111")))
+        fig.update_layout(**LAYOUT, height=520, title=f"Epicentres in km from {ref.split(' (')[0]}",
+                          xaxis=dict(title="km east", zeroline=True),
+                          yaxis=dict(title="km north", scaleanchor="x", scaleratio=1, zeroline=True))
+        out.append(("fig-epicentres", fig, f"Catalogue {located.meta.series_id}; distances from {ref}, local flat "
+                                           "projection; no basemap so that the page stays offline."))
+    return out
