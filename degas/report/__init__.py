@@ -82,7 +82,7 @@ def tables(bundle) -> dict[str, pd.DataFrame]:
     if bundle.xcorr is not None:
         lag_rows.append({"interval": "whole record", **bundle.xcorr.summary()})
     for s, e, label, res in bundle.xcorr_intervals:
-        lag_rows.append({"interval": f"{s:%Y-%m-%d} to {e:%Y-%m-%d} ({label})", **res.summary()})
+        lag_rows.append({"interval": f"{s:%Y-%m-%d} to {(e - DAY):%Y-%m-%d} ({label})", **res.summary()})
     if lag_rows:
         out["lag_results"] = pd.DataFrame(lag_rows)
     if bundle.regimes is not None:
@@ -112,7 +112,7 @@ def build_figures(bundle) -> dict[str, tuple[object, str]]:
                              "p-value accounts for searching over all lags.")
     for i, (s, e, _label, res) in enumerate(bundle.xcorr_intervals if bundle.mode != "weekly" else ()):
         figs[f"fig-xcorr-{i + 1}"] = (F.xcorr_figure(res, f"Lagged cross-correlation, coupled interval "
-                                                           f"{s:%Y-%m-%d} to {e:%Y-%m-%d}"), "")
+                                                           f"{s:%Y-%m-%d} to {(e - DAY):%Y-%m-%d}"), "")
     if bundle.rolling is not None:
         figs["fig-rolling"] = (F.rolling_figure(bundle.rolling), "Coupling through time; grey markers: windows "
                                "whose peak is not significant against surrogates.")
@@ -136,7 +136,10 @@ def build_figures(bundle) -> dict[str, tuple[object, str]]:
 
 def _methods(bundle) -> str:
     p = bundle.project.parameters()
-    prm = pd.DataFrame({"parameter": list(p), "value": [str(v) for v in p.values()]})
+    structured = ("petrology", "thresholds", "capability", "systematic_by_station")
+    prm = pd.DataFrame({"parameter": [k for k in p if k not in structured],
+                        "value": [", ".join(map(str, v)) if isinstance(v, list | tuple) else str(v)
+                                  for k, v in p.items() if k not in structured]})
     src = pd.DataFrame([{"file": v["name"], "sha256": k, "reader": v.get("reader"), "ingested": v.get("ingested_at"),
                          "rows accepted": v.get("accepted"), "rows rejected": v.get("rejected")}
                         for k, v in bundle.sources.items()])
@@ -158,6 +161,7 @@ def _methods(bundle) -> str:
         "<h3>Series used</h3>" + table_html(pd.DataFrame({"role": list(roles), "series": [str(v) for v in
                                                                                       roles.values()]})),
         "<h3>Parameters</h3>" + table_html(prm),
+        _project_tables(bundle),
         "<h3>Input files</h3>" + table_html(src),
         "<h3>Assumptions recorded at ingest</h3><ul>" + "".join(f"<li>{esc(a)}</li>" for a in bundle.assumptions)
         + "</ul>",
@@ -166,6 +170,39 @@ def _methods(bundle) -> str:
         "<h3>Run steps</h3>" + table_html(pd.DataFrame(bundle.timings, columns=["step", "seconds"])),
     ]
     return "".join(lines)
+
+
+def _project_tables(bundle) -> str:
+    """Petrological inputs, working thresholds, instrument capability and systematic errors as labelled tables."""
+    pr = bundle.project
+    out = []
+    pet = pr.petrology
+    if pet is not None:
+        rows = [("S in melt inclusions", f"{pet.s_melt_inclusion * 1e6:g}", f"{pet.s_melt_inclusion_sd * 1e6:g}",
+                 "ppm"),
+                ("S in matrix glass", f"{pet.s_matrix_glass * 1e6:g}", f"{pet.s_matrix_glass_sd * 1e6:g}", "ppm"),
+                ("DRE density", f"{pet.density_kg_m3:g}", f"{pet.density_sd:g}", "kg/m³"),
+                ("crystal volume fraction", f"{pet.crystal_fraction:g}", f"{pet.crystal_fraction_sd:g}", "0-1"),
+                ("expected SO2 per m³ DRE (Devine et al. 1984)", f"{pet.so2_per_m3:.4g}", "", "kg/m³")]
+        out.append("<h3>Petrological inputs</h3>" + table_html(pd.DataFrame(rows, columns=["input", "value",
+                                                                                         "1σ", "unit"])))
+    if pr.thresholds:
+        out.append("<h3>Working thresholds (the observatory's own, not official alert levels)</h3>" + table_html(
+            pd.DataFrame([{"series or role": t.series, "label": t.label, "crossed when": t.describe()}
+                          for t in pr.thresholds])))
+    sysd = dict(pr.systematic_by_station)
+    rows = [{"series": sid, "systematic flux error (1σ)": f"{sysd.get(sid, pr.systematic):.0%}"}
+            for sid in bundle.roles.get("gas", ())]
+    if rows:
+        out.append("<h3>Gas budget: systematic error per station</h3>" + table_html(pd.DataFrame(rows))
+                   + f'<p class="caption">Plume speed and geometry, fully correlated within a station; default '
+                   f"{pr.systematic:.0%} (common practice). Scans flagged other than "
+                   f"{', '.join(pr.good_flags)} are excluded from the budget.</p>")
+    if pr.capability:
+        out.append("<h3>Instrument capability (coverage is judged against it)</h3>" + table_html(
+            pd.DataFrame([{"series": k, "share of 24 h the instrument can cover": f"{v:.0%}"}
+                          for k, v in pr.capability])))
+    return "".join(out)
 
 
 def _notes_html(bundle) -> list[str]:

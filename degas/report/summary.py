@@ -53,7 +53,6 @@ def _p(p: float) -> str:
 def lag_sentence(key: str, res, where: str) -> Sentence:
     ci = "" if res.lag_ci is None else (f" ({res.ci_level:.0%} interval {res.lag_ci[0] / DAY:+.0f} to "
                                         f"{res.lag_ci[1] / DAY:+.0f} d)")
-    where = where.replace(" to ", " until ") if where.startswith("Coupled") else where
     significant = np.isfinite(res.p_value) and res.p_value < 0.05
     excludes_zero = res.lag_ci is not None and (res.lag_ci[0] > pd.Timedelta(0) or res.lag_ci[1] < pd.Timedelta(0))
     if not significant:
@@ -79,7 +78,7 @@ def regime_sentences(bundle) -> list[Sentence]:
             if r.duration_days < 7:
                 continue
             if label == "gas_only":
-                what = (f"Gas without magma output (decoupled degassing) from {_d(r.start)} until {_d(r.end)} "
+                what = (f"Gas without magma output (decoupled degassing) from {_d(r.start)} to {_d(r.end - DAY)} "
                         f"({r.duration_days:.0f} days): SO2 {_num(r.gas_t_d)} t/d, {r.gas_to_baseline:.1f}× the "
                         f"passive-degassing level (the lowest gas segment), while magma output was "
                         f"{r.magma_level:.2g} {munit}.")
@@ -87,7 +86,7 @@ def regime_sentences(bundle) -> list[Sentence]:
                 if not np.isfinite(r.ratio_vs_expected):
                     continue  # without a reference gas-per-magma ratio the label is not supported: no sentence
                 what = (f"Magma output without matching gas (gas-poor output, possible sealing) from {_d(r.start)} "
-                        f"until {_d(r.end)} ({r.duration_days:.0f} days): magma output {r.magma_level:.2g} {munit} "
+                        f"to {_d(r.end - DAY)} ({r.duration_days:.0f} days): magma output {r.magma_level:.2g} {munit} "
                         f"with SO2 {_num(r.gas_t_d)} t/d, {_num(r.ratio_vs_expected, 2)}× the gas per magma of the "
                         "coupled intervals.")
                 if lp is not None:
@@ -145,7 +144,7 @@ def summarise(bundle) -> list[Sentence]:
                 f"Episode {_d(bundle.start)} to {_d(bundle.end - pd.Timedelta(1, 'ns'))}")
         out.append(lag_sentence("lag:record", bundle.xcorr, f"{span}, SO2 against magma output"))
     for s, e, _label, res in bundle.xcorr_intervals:
-        out.append(lag_sentence(f"lag:{_d(s)}", res, f"Coupled interval {_d(s)} to {_d(e)}"))
+        out.append(lag_sentence(f"lag:{_d(s)}", res, f"Coupled interval {_d(s)} to {_d(e - DAY)}"))
     if bundle.budget is not None:
         o = bundle.budget.overall
         if np.isfinite(o.get("excess_factor", np.nan)):
@@ -154,7 +153,7 @@ def summarise(bundle) -> list[Sentence]:
             both = int(o.get("days_both", both))  # the budget's own days (flagged scans excluded)
             out.append(Sentence(
                 "budget:overall",
-                f"Gas budget {_d(o['start'])} until {_d(o['end'])}: {_num(o['so2_mass_kg'] / 1e6)} ± "
+                f"Gas budget {_d(o['start'])} to {_d(o['end'] - DAY)}: {_num(o['so2_mass_kg'] / 1e6)} ± "
                 f"{_num(o['so2_mass_sd_total_kg'] / 1e6)} kt SO2 (1σ, scan errors and per-station systematic "
                 f"plume-speed/geometry terms; flagged scans excluded; lower bound, "
                 f"gas coverage {o['gas_coverage']:.0%}) and {o['dre_volume_m3'] / 1e6:.3g} Mm³ DRE erupted; on the "
