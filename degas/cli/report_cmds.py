@@ -118,15 +118,23 @@ def weekly(
     per = bundle.periods
     t = Table(title=f"Week {per.window_start:%Y-%m-%d} to {(per.window_end - pd.Timedelta('1D')):%Y-%m-%d} vs "
                     f"{per.baseline_days:.0f}-day baseline", box=box.SIMPLE_HEAD)
-    for c in ("series", "unit", "week", "baseline", "ratio (95 %)", "robust z", "trend/day", "MK p", "coverage"):
+    for c in ("series", "unit", "week", "baseline", "ratio (95 %)", "robust z", "trend/day", "MK p", "of 24 h"):
         t.add_column(c, no_wrap=True)
-    rows = [r.to_row() for r in bundle.review]
+    from degas.analysis.weekly import ROLE_ORDER
+
+    role = {"gas_flux": "gas", "extrusion_rate": "magma", "amplitude": "amplitude", "gas_ratio": "ratio"}
+    rows = sorted((r.to_row() for r in bundle.review),
+                  key=lambda r: (ROLE_ORDER.index(role.get(r["kind"], "other")), r["series"]))
+
     def f(x, spec: str) -> str:
-        return "-" if x is None or not np.isfinite(x) else format(x, spec)
+        if x is None or not np.isfinite(x):
+            return "-"
+        return f"{x:,.0f}" if spec == ".3g" and abs(x) >= 1000 else format(x, spec)
 
     for r in rows:
-        ratio = "-" if not np.isfinite(r["ratio"]) else (f"{r['ratio']:.2f} ({f(r['ratio_low'], '.2f')}-"
-                                                          f"{f(r['ratio_high'], '.2f')})")
+        ratio = "-" if not np.isfinite(r["ratio"]) else (
+            f"{r['ratio']:.2f} ({f(r['ratio_low'], '.2f')}-{f(r['ratio_high'], '.2f')})"
+            if np.isfinite(r["ratio_low"]) else f"{r['ratio']:.2f} (per sample)")
         t.add_row(r["series"], r["unit"], f(r["level_window"], ".3g"), f(r["level_baseline"], ".3g"), ratio,
                   f(r["robust_z"], ".2f"), f(r["trend_per_day"], "+.3g"), f(r["mann_kendall_p"], ".2f"),
                   f(r["coverage_window"], ".0%"))

@@ -1,9 +1,10 @@
 """The report: one self-contained HTML file from a run's results, plus appendix files.
 
-This package reads results; analysis never imports it. Static images: none are written. plotly's static
-export needs kaleido, which drives a Chrome browser of its own at run time, and a second plotting stack
-(matplotlib) would duplicate every figure; the appendix gives each figure as a standalone HTML page instead
-(sharing one local copy of plotly.js, so it opens offline) and every table as CSV, Markdown and LaTeX.
+This package reads results; analysis never imports it. The appendix gives each figure as a standalone HTML page
+(sharing one local copy of plotly.js, so it opens offline), every table as CSV, Markdown and LaTeX, print tables in
+display units, and - with the optional ``[static]`` extra and a system Chromium - PNG, SVG and one PDF of the
+figures (:mod:`degas.report.appendix`). A weekly report opens with the one-screen brief
+(:mod:`degas.report.brief`).
 """
 
 from __future__ import annotations
