@@ -154,13 +154,16 @@ def report(
     end: str | None = typer.Option(None, help="Retrospective: last day of the episode."),
     out: Path = typer.Option(Path("reports"), help="Folder for the HTML report."),
     appendix: Path | None = typer.Option(None, help="Also write tables (CSV, Markdown, LaTeX) and figures here."),
+    static: bool = typer.Option(True, "--static/--no-static", help="With --appendix: also PNG/SVG figures and one "
+                                                                   "PDF of them (needs the [static] extra and a "
+                                                                   "system Chromium)."),
 ) -> None:
     """Write the self-contained HTML report (weekly review, or a retrospective with --start/--end)."""
     from degas.report import write_report
 
     bundle = _run(archive_dir, project, before, start, end)
     messages: list[str] = []
-    path = write_report(bundle, out, appendix, messages)
+    path = write_report(bundle, out, appendix, messages, static=static)
     if bundle.mode == "weekly":
         print_brief(bundle)
     print_summary(bundle)

@@ -349,7 +349,7 @@ def render_report(bundle) -> tuple[str, dict]:
 
 
 def write_report(bundle, out_dir: str | Path = "reports", appendix: str | Path | None = None,
-                 messages: list[str] | None = None) -> Path:
+                 messages: list[str] | None = None, static: bool = True) -> Path:
     """Write the report (and optionally the appendix) and return the report's path; lines for the user (e.g.
     why static figures were not written) are appended to ``messages``."""
     from degas.errors import DegasError
@@ -363,14 +363,14 @@ def write_report(bundle, out_dir: str | Path = "reports", appendix: str | Path |
         tmp.write_text(html, encoding="utf-8")
         tmp.replace(path)
         if appendix is not None:
-            write_appendix(bundle, Path(appendix), figs, messages)
+            write_appendix(bundle, Path(appendix), figs, messages, static=static)
     except OSError as exc:
         raise DegasError(f"cannot write the report: {exc.strerror or exc}: {exc.filename or out_dir}") from None
     return path
 
 
-def write_appendix(bundle, directory: Path, figs: dict | None = None, messages: list[str] | None = None
-                   ) -> list[Path]:
+def write_appendix(bundle, directory: Path, figs: dict | None = None, messages: list[str] | None = None,
+                   static: bool = True) -> list[Path]:
     """Tables as CSV (formula-protected, SI), Markdown and LaTeX; print tables in display units; the daily
     aligned-series CSV with coverage; figures as standalone HTML pages and, where kaleido and a Chromium are
     installed, as PNG, SVG and PDF (otherwise one line in ``messages`` says what to install)."""
@@ -398,9 +398,11 @@ def write_appendix(bundle, directory: Path, figs: dict | None = None, messages: 
         p = directory / "aligned_daily.csv"
         protect_frame(daily).to_csv(p, index=False)
         paths.append(p)
-    static, problem = A.write_static_figures(figs, directory / "static",
-                                             title=f"{bundle.project.volcano}: figures of {report_name(bundle)}")
-    paths += static
+    if not static:
+        return paths
+    static_paths, problem = A.write_static_figures(
+        figs, directory / "static", title=f"{bundle.project.volcano}: figures of {report_name(bundle)}")
+    paths += static_paths
     if problem and messages is not None:
         messages.append(problem)
     return paths

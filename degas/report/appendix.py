@@ -142,36 +142,60 @@ def static_export_problem() -> str | None:
 
 
 def write_static_figures(figs: dict, directory: Path, formats: tuple[str, ...] = ("png", "svg"),
-                         width: int = 1100, scale: float = 2.0, title: str = "Figures"
+                         width: int = 1100, scale: float = 1.5, title: str = "Figures"
                          ) -> tuple[list[Path], str | None]:
     """Write every figure as PNG and SVG with plotly's exporter, and one PDF of all figures (the SVGs with their
     captions, printed by the same Chromium); returns (paths, problem line or None)."""
     problem = static_export_problem()
     if problem:
         return [], problem
-    import plotly.io as pio
-
     os.environ.setdefault("BROWSER_PATH", find_browser() or "")
     directory.mkdir(parents=True, exist_ok=True)
     items, paths = [], []
     for fid, (fig, _cap) in figs.items():
+        fig = _without_webgl(fig)
         h = fig.layout.height or 450
         for fmt in formats:
             p = directory / f"{fid}.{fmt}"
             items.append((fig, p, fmt, h))
             paths.append(p)
-    try:
-        pio.write_images([i[0] for i in items], [i[1] for i in items], format=[i[2] for i in items],
-                         width=width, height=[i[3] for i in items], scale=[1.0 if i[2] != "png" else scale
-                                                                          for i in items])
-    except Exception as exc:  # noqa: BLE001 - the exporter's failures (browser crash, timeout) become one line
-        return [], f"static figures not written: {type(exc).__name__}: {str(exc).splitlines()[0] if str(exc) else ''}"
+    specs = [dict(fig=fig.to_plotly_json(), path=path, opts=dict(format=fmt, width=width, height=h,
+                                                                 scale=scale if fmt == "png" else 1.0))
+             for fig, path, fmt, h in items]
+    problem = None
+    for _attempt in range(2):  # a loaded machine can time a render out once; a second try usually passes
+        try:
+            import kaleido
+
+            # plotly's own exporter; a generous timeout per figure (kaleido's default is 90 s)
+            kaleido.write_fig_from_object_sync(specs, kopts={"timeout": 300})
+            problem = None
+            break
+        except Exception as exc:  # noqa: BLE001 - the exporter's failures (browser crash, timeout) become one line
+            first = str(exc).splitlines()[0] if str(exc) else ""
+            problem = f"static figures not written: {type(exc).__name__}: {first}"
+    if problem:
+        return [], problem
     if "svg" in formats:
         pdf, problem = _figures_pdf(figs, directory, title)
         if pdf is None:
             return paths, problem
         paths.append(pdf)
     return paths, None
+
+
+def _without_webgl(fig):
+    """The figure with WebGL scatter traces drawn as SVG scatter (a headless browser renders WebGL slowly in
+    software, and vector output needs SVG traces anyway); the page's interactive figure is unchanged."""
+    import plotly.graph_objects as go
+
+    if not any(t.type == "scattergl" for t in fig.data):
+        return fig
+    d = fig.to_dict()
+    for t in d["data"]:
+        if t.get("type") == "scattergl":
+            t["type"] = "scatter"
+    return go.Figure(d)
 
 
 def _figures_pdf(figs: dict, directory: Path, title: str) -> tuple[Path | None, str | None]:

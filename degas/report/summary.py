@@ -44,6 +44,18 @@ def _name(quantity: str) -> str:
     return QUANTITY_NAMES.get(quantity, quantity.replace("_", " "))
 
 
+def _coverage(bundle, r) -> str:
+    """Coverage judged against what the instrument can deliver (project [coverage]), or of the samples due."""
+    from degas.analysis.weekly import coverage_vs_capability
+
+    if getattr(r, "per_sample", False):
+        return f"{r.days_window} sample(s) in the week, reviewed per sample"
+    cap = dict(getattr(bundle.project, "capability", ())).get(r.series_id)
+    if cap is None:
+        return f"coverage {r.coverage_window:.0%}"
+    return f"coverage {coverage_vs_capability(r.coverage_window, cap):.0%} of what the instrument can deliver"
+
+
 def _p(p: float) -> str:
     if not np.isfinite(p):
         return "n/a"
@@ -126,9 +138,12 @@ def summarise(bundle) -> list[Sentence]:
         out.append(Sentence(f"level:{r.series_id}",
                             f"{name}: median {_num(r.level_window)} {r.display_unit} in the week, "
                             f"{_num(r.ratio, 2)}× the {r.periods.baseline_days:.0f}-day baseline of "
-                            f"{_num(r.level_baseline)} ({r.days_baseline} days with data) "
-                            f"(95% {_num(r.ratio_low, 2)} to {_num(r.ratio_high, 2)}), robust z = "
-                            f"{_num(r.robust_z, 2)}{tr}; coverage {r.coverage_window:.0%}."))
+                            f"{_num(r.level_baseline)} ({r.days_baseline} "
+                            f"{'samples' if getattr(r, 'per_sample', False) else 'days with data'}) "
+                            + (f"(95% {_num(r.ratio_low, 2)} to {_num(r.ratio_high, 2)}), " if np.isfinite(r.ratio_low)
+                               else "(no interval: too few values), ")
+                            + f"robust z = "
+                            f"{_num(r.robust_z, 2)}{tr}; {_coverage(bundle, r)}."))
     for rc in bundle.review_events:
         if rc.event_class in ("LP", "hybrid", "VT", "explosion") and (rc.n_window or rc.n_baseline):
             out.append(Sentence(f"rate:{rc.event_class}",
