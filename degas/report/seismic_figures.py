@@ -13,6 +13,16 @@ import plotly.graph_objects as go
 from degas.report.figures import CLASS_COLOURS, LAYOUT
 
 EARTH_RADIUS_KM = 6371.0088
+#: most events drawn per location figure (a seeded random subset beyond it, said in the caption); display only
+MAX_POINTS = 20_000
+
+
+def _subset(d):
+    """At most MAX_POINTS rows (seeded, order kept) and the caption note."""
+    if len(d) <= MAX_POINTS:
+        return d, ""
+    keep = np.sort(np.random.default_rng(0).choice(len(d), MAX_POINTS, replace=False))
+    return d.iloc[keep], f" Display only: {MAX_POINTS:,} of {len(d):,} events drawn (random subset)."
 
 
 def offsets_km(lat_deg, lon_deg, lat0_deg: float, lon0_deg: float) -> tuple[np.ndarray, np.ndarray]:
@@ -54,18 +64,19 @@ def location_figures(bundle) -> list[tuple[str, go.Figure, str]]:
     cats = _catalogues(bundle)
     deep = next((c for c in cats if c.data["depth_m"].notna().any()), None)
     if deep is not None:
-        d = deep.data
+        d, more = _subset(deep.data.loc[deep.data["depth_m"].notna()])
         fig = go.Figure()
         _traces(fig, d, d["time"], d["depth_m"].to_numpy(dtype=float) / 1000.0)
         fig.update_layout(**LAYOUT, height=340, title="Depth of located events through time (VT shown; click the "
                           "legend for other classes)", yaxis=dict(title="depth below sea level (km)",
                                                                   autorange="reversed"))
         out.append(("fig-depth-time", fig, f"Catalogue {deep.meta.series_id}; depth below sea level as the "
-                                           "catalogue gives it."))
+                                           "catalogue gives it." + more))
     located = next((c for c in cats if (c.data["latitude_deg"].notna() & c.data["longitude_deg"].notna()).any()),
                    None)
     if located is not None:
-        d = located.data.loc[located.data["latitude_deg"].notna() & located.data["longitude_deg"].notna()]
+        d, more = _subset(located.data.loc[located.data["latitude_deg"].notna()
+                                           & located.data["longitude_deg"].notna()])
         p = bundle.project
         if p.vent_latitude is not None and p.vent_longitude is not None:
             lat0, lon0, ref = p.vent_latitude, p.vent_longitude, "the vent (position from the project file)"
@@ -81,5 +92,5 @@ def location_figures(bundle) -> list[tuple[str, go.Figure, str]]:
                           xaxis=dict(title="km east", zeroline=True),
                           yaxis=dict(title="km north", scaleanchor="x", scaleratio=1, zeroline=True))
         out.append(("fig-epicentres", fig, f"Catalogue {located.meta.series_id}; distances from {ref}, local flat "
-                                           "projection; no basemap so that the page stays offline."))
+                                           "projection; no basemap so that the page stays offline." + more))
     return out

@@ -59,3 +59,14 @@ def test_without_a_browser_one_line_says_what_to_install(monkeypatch, tmp_path):
     paths, problem = A.write_static_figures({}, tmp_path)
     assert paths == [] and "apt-get install chromium" in problem and "[static]" in problem
     assert "\n" not in problem
+
+
+def test_location_figures_draw_a_bounded_number_of_points(demo_bundle, monkeypatch):
+    from degas.report import seismic_figures as SF
+
+    monkeypatch.setattr(SF, "MAX_POINTS", 100)
+    figs = SF.location_figures(demo_bundle)
+    assert {f[0] for f in figs} == {"fig-depth-time", "fig-epicentres"}
+    for _fid, fig, cap in figs:
+        assert sum(len(t.x) for t in fig.data if t.name != "vent") <= 100
+        assert "random subset" in cap
