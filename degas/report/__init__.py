@@ -24,6 +24,7 @@ from degas.safecsv import protect_frame
 from degas.units import KG_S_TO_T_D
 
 DAY = pd.Timedelta("1D")
+NS = pd.Timedelta(1, "ns")  # an end is exclusive: its last day is the day of end - 1 ns
 #: display unit of the levels in the change-point and segment tables, per analysed series
 CHANGE_UNITS = {"gas": "t/d", "ratio": "mol/mol"}
 
@@ -83,7 +84,7 @@ def tables(bundle) -> dict[str, pd.DataFrame]:
     if bundle.xcorr is not None:
         lag_rows.append({"interval": "whole record", **bundle.xcorr.summary()})
     for s, e, label, res in bundle.xcorr_intervals:
-        lag_rows.append({"interval": f"{s:%Y-%m-%d} to {(e - DAY):%Y-%m-%d} ({label})", **res.summary()})
+        lag_rows.append({"interval": f"{s:%Y-%m-%d} to {(e - NS):%Y-%m-%d} ({label})", **res.summary()})
     if lag_rows:
         out["lag_results"] = pd.DataFrame(lag_rows)
     if bundle.regimes is not None:
@@ -113,7 +114,7 @@ def build_figures(bundle) -> dict[str, tuple[object, str]]:
                              "p-value accounts for searching over all lags.")
     for i, (s, e, _label, res) in enumerate(bundle.xcorr_intervals if bundle.mode != "weekly" else ()):
         figs[f"fig-xcorr-{i + 1}"] = (F.xcorr_figure(res, f"Lagged cross-correlation, coupled interval "
-                                                           f"{s:%Y-%m-%d} to {(e - DAY):%Y-%m-%d}"), "")
+                                                           f"{s:%Y-%m-%d} to {(e - NS):%Y-%m-%d}"), "")
     if bundle.rolling is not None:
         figs["fig-rolling"] = (F.rolling_figure(bundle.rolling), "Coupling through time; grey markers: windows "
                                "whose peak is not significant against surrogates.")
@@ -250,7 +251,8 @@ def render_report(bundle) -> tuple[str, dict]:
     if "regimes" in tabs:
         r = tabs["regimes"]
         munit = "m³/s DRE" if bundle.regimes.magma_measure == "extrusion_rate" else "eruptive fraction"
-        shown = pd.DataFrame({"first day": r["start"], "last day": r["end"] - DAY, "days": r["duration_days"],
+        shown = pd.DataFrame({"first day": r["start"], "last day": (r["end"] - NS).dt.floor("D"),
+                              "days": r["duration_days"],
                               "label": r["label"], "SO2 (t/d)": r["gas_t_d"],
                               "× passive level": r["gas_to_baseline"], f"magma output ({munit})": r["magma_level"],
                               "gas per magma vs coupled": r["ratio_vs_expected"], "evidence": r["evidence"]})
@@ -271,7 +273,8 @@ def render_report(bundle) -> tuple[str, dict]:
                                   + table_html(gr))
     if "budget" in tabs:
         bt = tabs["budget"]
-        shown = pd.DataFrame({"first day": bt["start"], "last day": bt["end"] - DAY,
+        shown = pd.DataFrame({"first day": bt["start"],
+                              "last day": (pd.to_datetime(bt["end"], utc=True) - NS).dt.floor("D"),
                               "SO2 (kt, lower bound)": [f"{m / 1e6:.3g} ± {t / 1e6:.2g} ({c:.0%} of days)" for m, t, c
                                                         in zip(bt["so2_mass_kg"], bt["so2_mass_sd_total_kg"],
                                                                bt["gas_coverage"], strict=True)],

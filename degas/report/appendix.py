@@ -19,6 +19,7 @@ import pandas as pd
 from degas.units import KG_S_TO_T_D
 
 DAY = pd.Timedelta("1D")
+NS = pd.Timedelta(1, "ns")  # ends are exclusive; the last day is the day of end - 1 ns
 BROWSERS = ("chromium", "chromium-browser", "google-chrome", "google-chrome-stable", "chrome")
 STATIC_HINT = ("static figures not written: install the extra and a browser: pip install 'degas-volcano[static]' "
                "and apt-get install chromium (or set BROWSER_PATH to a Chrome/Chromium binary)")
@@ -59,7 +60,7 @@ def display_tables(bundle) -> dict[str, pd.DataFrame]:
         bt = bundle.budget.to_frame()
         out["print_budget"] = pd.DataFrame({
             "first day": [_day(x) for x in bt["start"]],
-            "last day": [_day(pd.Timestamp(x) - DAY) for x in bt["end"]],
+            "last day": [_day(pd.Timestamp(x) - NS) for x in bt["end"]],
             "SO2 kt": [_g(x / 1e6) for x in bt["so2_mass_kg"]],
             "± kt (1σ total)": [_g(x / 1e6, 2) for x in bt["so2_mass_sd_total_kg"]],
             "gas days %": [f"{x:.0%}" for x in bt["gas_coverage"]],
@@ -77,7 +78,7 @@ def display_tables(bundle) -> dict[str, pd.DataFrame]:
     if bundle.regimes is not None:
         r = bundle.regimes.to_frame()
         out["print_regimes"] = pd.DataFrame({
-            "first day": [_day(x) for x in r["start"]], "last day": [_day(pd.Timestamp(x) - DAY) for x in r["end"]],
+            "first day": [_day(x) for x in r["start"]], "last day": [_day(pd.Timestamp(x) - NS) for x in r["end"]],
             "days": [f"{x:.0f}" for x in r["duration_days"]], "label": r["label"],
             "SO2 t/d": [_g(x) for x in r["gas_t_d"]], "× passive": [_g(x, 2) for x in r["gas_to_baseline"]],
             "magma output": [_g(x, 2) for x in r["magma_level"]],

@@ -14,6 +14,7 @@ import pandas as pd
 from degas.report.html import REGIME_LABELS
 
 DAY = pd.Timedelta("1D")
+NS = pd.Timedelta(1, "ns")  # ends are exclusive: the last day shown is the day of end - 1 ns
 
 
 @dataclass(frozen=True)
@@ -90,7 +91,7 @@ def regime_sentences(bundle) -> list[Sentence]:
             if r.duration_days < 7:
                 continue
             if label == "gas_only":
-                what = (f"Gas without magma output (decoupled degassing) from {_d(r.start)} to {_d(r.end - DAY)} "
+                what = (f"Gas without magma output (decoupled degassing) from {_d(r.start)} to {_d(r.end - NS)} "
                         f"({r.duration_days:.0f} days): SO2 {_num(r.gas_t_d)} t/d, {r.gas_to_baseline:.1f}× the "
                         f"passive-degassing level (the lowest gas segment), while magma output was "
                         f"{r.magma_level:.2g} {munit}.")
@@ -98,7 +99,7 @@ def regime_sentences(bundle) -> list[Sentence]:
                 if not np.isfinite(r.ratio_vs_expected):
                     continue  # without a reference gas-per-magma ratio the label is not supported: no sentence
                 what = (f"Magma output without matching gas (gas-poor output, possible sealing) from {_d(r.start)} "
-                        f"to {_d(r.end - DAY)} ({r.duration_days:.0f} days): magma output {r.magma_level:.2g} {munit} "
+                        f"to {_d(r.end - NS)} ({r.duration_days:.0f} days): magma output {r.magma_level:.2g} {munit} "
                         f"with SO2 {_num(r.gas_t_d)} t/d, {_num(r.ratio_vs_expected, 2)}× the gas per magma of the "
                         "coupled intervals.")
                 if lp is not None:
@@ -159,7 +160,7 @@ def summarise(bundle) -> list[Sentence]:
                 f"Episode {_d(bundle.start)} to {_d(bundle.end - pd.Timedelta(1, 'ns'))}")
         out.append(lag_sentence("lag:record", bundle.xcorr, f"{span}, SO2 against magma output"))
     for s, e, _label, res in bundle.xcorr_intervals:
-        out.append(lag_sentence(f"lag:{_d(s)}", res, f"Coupled interval {_d(s)} to {_d(e - DAY)}"))
+        out.append(lag_sentence(f"lag:{_d(s)}", res, f"Coupled interval {_d(s)} to {_d(e - NS)}"))
     if bundle.budget is not None:
         o = bundle.budget.overall
         if np.isfinite(o.get("excess_factor", np.nan)):
@@ -168,7 +169,7 @@ def summarise(bundle) -> list[Sentence]:
             both = int(o.get("days_both", both))  # the budget's own days (flagged scans excluded)
             out.append(Sentence(
                 "budget:overall",
-                f"Gas budget {_d(o['start'])} to {_d(o['end'] - DAY)}: {_num(o['so2_mass_kg'] / 1e6)} ± "
+                f"Gas budget {_d(o['start'])} to {_d(o['end'] - NS)}: {_num(o['so2_mass_kg'] / 1e6)} ± "
                 f"{_num(o['so2_mass_sd_total_kg'] / 1e6)} kt SO2 (1σ, scan errors and per-station systematic "
                 f"plume-speed/geometry terms; flagged scans excluded; lower bound, "
                 f"gas coverage {o['gas_coverage']:.0%}) and {o['dre_volume_m3'] / 1e6:.3g} Mm³ DRE erupted; on the "

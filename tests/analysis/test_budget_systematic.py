@@ -79,3 +79,20 @@ def test_large_systematic_term_keeps_ratio_bounds_positive():
     idx, st, g, unc, q = _two_stations()
     o = gas_budget(g, q, so2_uncertainty=unc, station_flux=st, systematic=1.5).overall
     assert o["ratio_p2_5_kg_per_m3"] > 0
+
+
+def test_change_point_level_ratios_have_log_scale_intervals_above_zero():
+    # a level stepping from near zero (a paused extrusion) to a few m³/s: the old symmetric interval read like
+    # "-23 to 157"; on the log scale (delta method for ln R) the lower bound stays positive
+    from degas.analysis.changepoints import detect_changepoints
+
+    rng = np.random.default_rng(1)
+    idx = pd.date_range("2031-01-01", periods=120, freq="D", tz="UTC")
+    x = np.r_[np.abs(rng.normal(0.05, 0.05, 60)) + 0.01, rng.normal(3.0, 0.5, 60)]
+    res = detect_changepoints(pd.DataFrame({"q": x}, index=idx), transform={"q": "identity"}, min_segment="14D")
+    ch = res.changes
+    assert len(ch) >= 1
+    assert (ch["ratio_low"] > 0).all() and (ch["ratio_low"] < ch["ratio"]).all()
+    assert (ch["ratio"] < ch["ratio_high"]).all()
+    # symmetric on the log scale about the estimate
+    assert np.allclose(ch["ratio_low"] * ch["ratio_high"], ch["ratio"] ** 2)

@@ -29,7 +29,7 @@ def test_print_tables_are_in_display_units_and_narrow(demo_bundle):
     bud = tabs["print_budget"]
     o = demo_bundle.budget.overall
     assert bud["SO2 kt"].iloc[-1] == f"{o['so2_mass_kg'] / 1e6:,.0f}"  # kg -> kt
-    assert bud["last day"].iloc[-1] == (o["end"] - pd.Timedelta("1D")).strftime("%Y-%m-%d")  # inclusive
+    assert bud["last day"].iloc[-1] == (o["end"] - pd.Timedelta(1, "ns")).strftime("%Y-%m-%d")  # inclusive
 
 
 def test_volume_comparison_in_the_demo_run(demo_bundle):

@@ -34,7 +34,7 @@ def test_summary_names_the_decoupled_pause_with_dates_and_numbers(demo_bundle, d
     assert abs(row["end"] - pd.Timestamp(truth["end"], tz="UTC")) <= 3 * DAY
     text = s[key]
     # one convention for end dates: the inclusive last day (issue 13 replaces "until <exclusive end>")
-    assert f"from {row['start']:%Y-%m-%d} to {row['end'] - pd.Timedelta('1D'):%Y-%m-%d}" in text
+    assert f"from {row['start']:%Y-%m-%d} to {row['end'] - pd.Timedelta(1, 'ns'):%Y-%m-%d}" in text
     assert f"SO2 {row['gas_t_d']:.0f} t/d" in text
     assert "decoupled degassing" in text
 
@@ -50,7 +50,7 @@ def test_summary_names_the_sealing_episode_with_dates_and_numbers(demo_bundle, d
     assert abs(row["end"] - pd.Timestamp(truth["end"], tz="UTC")) <= 3 * DAY
     text = s[key]
     # one convention for end dates: the inclusive last day (issue 13 replaces "until <exclusive end>")
-    assert f"from {row['start']:%Y-%m-%d} to {row['end'] - pd.Timedelta('1D'):%Y-%m-%d}" in text
+    assert f"from {row['start']:%Y-%m-%d} to {row['end'] - pd.Timedelta(1, 'ns'):%Y-%m-%d}" in text
     assert f"SO2 {row['gas_t_d']:.0f} t/d" in text and "possible sealing" in text
     lp = demo_bundle.changepoints["lp_hybrid_rate"].changes
     first = lp[lp["time"] >= row["start"] - 21 * DAY].iloc[0]
