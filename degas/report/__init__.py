@@ -312,6 +312,15 @@ def render_report(bundle) -> tuple[str, dict]:
         sections.setdefault("budget", ("Gas budget", []))[1].append(
             "<h3>Erupted volume two ways</h3>" + table_html(vt) + '<p class="caption">Survey difference and the '
             "summed rate series over the same days; a rate series with missing days gives a lower bound.</p>")
+    b_rows = [(f"{'+'.join(bundle.seismic.get('b_classes', ('VT',)))}", bundle.seismic.get("b_value")),
+              ("+".join(bundle.project.lp_classes), bundle.seismic.get("b_value_lp"))]
+    b_rows = [{"events": k, "b ± σ (Shi & Bolt 1982)": f"{v.b:.2f} ± {v.sigma:.2f}", "Mc": v.mc, "events ≥ Mc": v.n}
+              for k, v in b_rows if v is not None]
+    if b_rows:
+        sections.setdefault("seismicity", ("Seismicity", []))[1].append(
+            "<h3>b-value and Mc by event class</h3>" + table_html(pd.DataFrame(b_rows))
+            + '<p class="caption">Rockfalls and other surface events never enter b or Mc; LP + hybrid events are '
+            "estimated separately from VT events.</p>")
     for sid, (heading, parts) in sections.items():
         page.add(sid, heading, "".join(parts))
     for sid, heading, build, modes in EXTRA_SECTIONS:

@@ -80,3 +80,13 @@ def test_project_thresholds_reach_the_brief(demo_weekly_bundle):
             assert bool(r.crossed) == (r.now > 1500)  # [thresholds.gas] above = 1500 in velmarra.toml
     ratio = next(r for r in rows if r.role == "ratio")
     assert ratio.coverage == pytest.approx(1.0)  # weekly samples: 1 of 1 expected
+
+
+def test_report_gives_b_by_class(demo_bundle):
+    from degas.report import render_report
+
+    html, _ = render_report(demo_bundle)
+    assert "b-value and Mc by event class" in html
+    assert demo_bundle.seismic["b_classes"] == ("VT",)
+    bv = demo_bundle.seismic["b_value"]
+    assert f"{bv.b:.2f} ± {bv.sigma:.2f}" in html
