@@ -43,7 +43,7 @@ def _pick(archive, series_id: str | None, kinds: tuple[str, ...], role: str):
 
 
 def _aligned(archive_dir: Path, picks: dict[str, tuple[str | None, tuple[str, ...], str]], step: str,
-             min_coverage: float):
+             min_coverage: float, good_flags: tuple[str, ...] | None = None, notes: list[str] | None = None):
     from degas.align import align
     from degas.store import Archive
 
@@ -55,6 +55,14 @@ def _aligned(archive_dir: Path, picks: dict[str, tuple[str | None, tuple[str, ..
             from degas.volumes import rates_from_cumulative
 
             records[name] = rates_from_cumulative(rec)
+        elif rec.meta.kind == "gas_flux" and good_flags is not None:  # flagged scans out (budget, issue 13)
+            from degas.analysis.budget import usable_scans
+
+            ok, bad = usable_scans(rec.data["quality"], good_flags)
+            records[name] = rec.with_data(rec.data.loc[ok].reset_index(drop=True))
+            if bad and notes is not None:
+                notes.append(f"{rec.meta.series_id}: scans flagged " + ", ".join(f"{k!r} ({v})" for k, v in
+                                                                                sorted(bad.items())) + " excluded")
     return align(records, step, min_coverage=min_coverage), entries
 
 
@@ -265,6 +273,8 @@ def budget(
     error_correlation: str = typer.Option("independent", help="Flux errors 'independent' per bin or 'correlated'."),
     systematic: float = typer.Option(0.20, help="Fractional 1-sigma systematic flux error (plume speed, geometry), "
                                                 "fully correlated over the record; 0.20 is common practice."),
+    good_flags: str = typer.Option("good,ok,valid,buena", help="Comma-separated quality flags of scans that enter "
+                                                               "the budget (scans without a flag always do)."),
     n_mc: int = typer.Option(10_000, "--monte-carlo", help="Monte Carlo draws."),
     seed: int = typer.Option(0, help="Random seed."),
     csv: Path | None = typer.Option(None, "--csv", help="Write the per-segment budget to CSV."),
@@ -279,7 +289,9 @@ def budget(
              "q": (extrusion, ("extrusion_rate", "erupted_volume"), "extrusion rate")}
     if ratio is not None:
         picks["ratio"] = (ratio, ("gas_ratio",), "gas ratio")
-    tab, entries = _aligned(archive_dir, picks, step, min_coverage)
+    flag_notes: list[str] = []
+    tab, entries = _aligned(archive_dir, picks, step, min_coverage,
+                            tuple(f.strip().lower() for f in good_flags.split(",") if f.strip()), flag_notes)
     g, q = tab.pair("gas", "q")
     seg = _segments(g, "gas")[["start", "end"]] if segments == "changepoints" else None
     petro = None
@@ -306,7 +318,7 @@ def budget(
             row += [_fmt(r["expected_so2_kg"] / 1e6), _fmt(r["excess_factor"], ".2f"), r["finding"]]
         t.add_row(*row)
     console.print(t)
-    notes = list(tab.notes + res.notes)
+    notes = list(tab.notes + res.notes) + flag_notes
     payload: dict = {"segments": frame.to_dict("records"), "notes": notes}
     if ratio is not None:
         co2 = co2_flux(g, tab.series("ratio"), max_gap=ratio_max_gap)
