@@ -31,7 +31,8 @@ def stations_table(bundle) -> pd.DataFrame:
     for r in bundle.inventory:
         loc = "not recorded in the archive"
         rec = bundle.records.get("catalog")
-        if r["kind"] == "seismic_catalog" and rec is not None and r["series"] == rec.meta.series_id:
+        if (r["kind"] == "seismic_catalog" and rec is not None and hasattr(rec, "data")
+                and "latitude_deg" in rec.data and r["series"] == getattr(rec.meta, "series_id", None)):
             d = rec.data
             if d["latitude_deg"].notna().any():
                 loc = (f"epicentres around {d['latitude_deg'].median():.3f}°, {d['longitude_deg'].median():.3f}° "

@@ -96,6 +96,7 @@ def _series_rows(bundle) -> list[BriefRow]:
 
 def _event_rows(bundle) -> list[BriefRow]:
     from degas.grid import event_counts, make_grid
+    from degas.model import EventCatalog
 
     cat = bundle.records.get("catalog")
     if cat is None:
@@ -103,15 +104,20 @@ def _event_rows(bundle) -> list[BriefRow]:
     per, n = bundle.periods, bundle.project.brief_weeks
     start = per.window_end - pd.Timedelta(days=7 * n)
     grid = make_grid(start, per.window_end - pd.Timedelta(1, "ns"), "1D")
-    counts = event_counts(cat, "1D", grid=grid, classes=("VT", "LP", "hybrid", "rockfall"))
+    if isinstance(cat, EventCatalog):
+        counts = event_counts(cat, "1D", grid=grid, classes=("VT", "LP", "hybrid", "rockfall"))
+    else:  # counts published by class, not a catalogue: rates from the review only, no weekly line
+        counts = pd.DataFrame()
     rates = {r.event_class: r for r in bundle.review_events}
     rows = []
     lp = tuple(bundle.project.lp_classes)
     for key, role, classes in (("lp_hybrid", "lp_hybrid", lp), ("VT", "vt", ("VT",))):
-        daily = counts[[c for c in classes if c in counts]].sum(axis=1).astype(float)
+        cols = [c for c in classes if c in counts]
+        daily = (counts[cols].sum(axis=1).astype(float) if cols else
+                 pd.Series(np.nan, index=pd.date_range(start, per.window_end, freq="D", inclusive="left")))
         weeks = week_over_week(daily, per.window_end, n, how="mean")
         rc = [rates[c] for c in classes if c in rates]
-        if not rc and not daily.sum():
+        if not rc and not np.nansum(daily.to_numpy()):
             continue
         from degas.analysis.review import poisson_rate_ratio
 

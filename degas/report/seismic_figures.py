@@ -36,7 +36,9 @@ def offsets_km(lat_deg, lon_deg, lat0_deg: float, lon0_deg: float) -> tuple[np.n
 
 def _catalogues(bundle) -> list:
     """The run's catalogue first, then any other catalogue in the archive (clipped to the run's span)."""
-    out = [bundle.records["catalog"]] if "catalog" in bundle.records else []
+    from degas.model import EventCatalog
+
+    out = [bundle.records["catalog"]] if isinstance(bundle.records.get("catalog"), EventCatalog) else []
     if bundle.archive is not None:
         used = {c.meta.series_id for c in out}
         for e in bundle.archive.find(kind="seismic_catalog"):

@@ -90,3 +90,21 @@ def test_report_gives_b_by_class(demo_bundle):
     assert demo_bundle.seismic["b_classes"] == ("VT",)
     bv = demo_bundle.seismic["b_value"]
     assert f"{bv.b:.2f} ± {bv.sigma:.2f}" in html
+
+
+def test_brief_and_location_figures_without_an_event_catalogue(demo_weekly_bundle):
+    # counts published by class (no catalogue object) must not break the brief or the location figures
+    import dataclasses
+
+    from degas.report.brief import brief_rows
+    from degas.report.seismic_figures import location_figures
+
+    class NotACatalogue:
+        data = pd.DataFrame()
+
+    b = dataclasses.replace(demo_weekly_bundle, records={**demo_weekly_bundle.records, "catalog": NotACatalogue()})
+    rows = brief_rows(b)
+    lp = next(r for r in rows if r.role == "lp_hybrid")
+    assert lp.weeks["value"].isna().all() and lp.now >= 0  # rate from the review, no weekly line
+    figs = location_figures(b)  # falls back to the archive's own catalogues, named in the caption
+    assert all(cap.startswith("Catalogue seismic_catalog.") for _fid, _f, cap in figs)
