@@ -66,9 +66,10 @@ DEFAULT_END = "2025-12-31"
 
 VOLCANO = "Velmarra"
 OBSERVATORY = "Velmarra Volcano Observatory"
-#: Invented summit position (WGS84 degrees) and elevation (m above sea level); arbitrary numbers.
-SUMMIT_LAT_DEG = 1.2345
-SUMMIT_LON_DEG = 102.3456
+#: Invented summit position (WGS84 degrees) and elevation (m above sea level): open South Pacific ocean, more
+#: than 1500 km from any real volcano, island or town (an invented ocean-island volcano).
+SUMMIT_LAT_DEG = -44.8765
+SUMMIT_LON_DEG = -128.4321
 SUMMIT_ELEVATION_M = 2350.0
 #: Local standard time of the north-rim instrument clock (fixed offset, no daylight saving).
 NORTH_UTC_OFFSET = "-05:00"

@@ -49,6 +49,7 @@ class RunBundle:
     granger: object | None = None
     budget: object | None = None
     co2: object | None = None
+    volumes: object | None = None  # VolumeComparison: survey volumes vs the summed rate series
     seismic: dict = field(default_factory=dict)
     periods: object | None = None
     review: list = field(default_factory=list)
@@ -181,6 +182,7 @@ def run_all(archive: Archive, project: Project, *, mode: str = "weekly", before:
     step("Granger tests", lambda: _granger(b))
     step("storage depths", lambda: _depths(archive, b))
     step("gas budget", lambda: _budget(b))
+    step("erupted volume", lambda: _volumes(b))
     step("seismicity", lambda: _seismicity(b))
     step("weekly review", lambda: _review(b))
     return b
@@ -426,8 +428,10 @@ def _budget(b: RunBundle) -> None:
         petro = inclusion_petrology(b.depths)
         b.notes.append(f"petrological SO2 from the inclusions: {petro.source}")
     unc = b.aligned.frame.get("magma_uncertainty")
-    b.budget = gas_budget(g, q, so2_uncertainty=b.aligned.frame["gas_uncertainty"], extrusion_uncertainty=unc,
-                          segments=seg, petrology=petro, seed=b.project.seed)
+    g, gu, stations, systematic = _budget_gas(b, g)
+    b.budget = gas_budget(g, q, so2_uncertainty=gu, extrusion_uncertainty=unc,
+                          segments=seg, petrology=petro, seed=b.project.seed, station_flux=stations,
+                          systematic=systematic)
     if "ratio" in b.aligned.kinds:
         b.co2 = co2_flux(g, b.aligned.series("ratio"), max_gap="7D")
 
@@ -436,6 +440,62 @@ def _depths(archive: Archive, b: RunBundle) -> None:
     from degas.depths import depth_context
 
     b.depths = depth_context(archive, b.project, b.roles["catalog"], b.roles["chronology"], b.regimes)
+
+
+def _volumes(b: RunBundle) -> None:
+    """Survey volumes and the rate series side by side, when the archive holds both."""
+    from degas.analysis.budget import compare_volumes
+
+    if b.aligned.kinds.get("magma") != "extrusion_rate" or b.archive is None:
+        return
+    surveys = [e for e in b.archive.entries() if e.meta.kind == "erupted_volume"]
+    if not surveys:
+        return
+    rec = b.archive.load(surveys[0].series_id)
+    d = rec.data
+    b.volumes = compare_volumes(d["time"], d["value"].to_numpy(), b.aligned.series("magma"),
+                                d["uncertainty"].to_numpy() if "uncertainty" in d else None)
+
+
+def _budget_gas(b: RunBundle, g: pd.Series):
+    """Daily SO2 flux for the budget from quality-screened scans, per station, and each station's systematic
+    1σ (project [budget]); flagged scans are excluded and the notes say how many (issue 13)."""
+    from degas.align import align
+    from degas.analysis.budget import usable_scans
+
+    p = b.project
+    recs, dropped = {}, {}
+    for sid in b.roles["gas"]:
+        rec = b.records[sid]
+        ok, bad = usable_scans(rec.data["quality"] if "quality" in rec.data else pd.Series(pd.NA, index=rec.data.index),
+                               p.good_flags)
+        recs[sid] = rec.with_data(rec.data.loc[ok].reset_index(drop=True)) if not ok.all() else rec
+        for k, v in bad.items():
+            dropped[k] = dropped.get(k, 0) + v
+    idx = b.aligned.frame.index
+    try:
+        tab = align(recs, p.step, min_coverage=p.min_coverage, start=idx[0], end=idx[-1] + (idx[1] - idx[0])
+                    - pd.Timedelta(1, "ns"))
+    except DegasError:
+        return g, b.aligned.frame["gas_uncertainty"], None, 0.0
+    f = tab.frame.reindex(idx)
+    cols = list(b.roles["gas"])
+    vals = f[cols].to_numpy(dtype=float)
+    n = np.sum(np.isfinite(vals), axis=1)
+    with np.errstate(all="ignore"), warnings.catch_warnings():
+        warnings.simplefilter("ignore", RuntimeWarning)
+        gas = pd.Series(np.nanmean(vals, axis=1), idx)
+        unc = f[[f"{c}_uncertainty" for c in cols]].to_numpy(dtype=float)
+        gu = pd.Series(np.sqrt(np.nansum(unc**2, axis=1)) / np.where(n > 0, n, np.nan), idx)
+    if dropped:
+        b.notes.append("gas budget: scans flagged " + ", ".join(f"{k!r} ({v})" for k, v in sorted(dropped.items()))
+                       + f" excluded; scans with no flag or one of {', '.join(p.good_flags)} used")
+    by = dict(p.systematic_by_station)
+    systematic = {}
+    for sid in cols:
+        st = b.records[sid].meta.station or sid
+        systematic[sid] = float(by.get(sid, by.get(st, p.systematic)))
+    return gas, gu, f[cols], systematic
 
 
 def _seismicity(b: RunBundle) -> None:
@@ -452,12 +512,20 @@ def _seismicity(b: RunBundle) -> None:
         b.skipped.append(f"seismic energy, b-value and depths: not run: {NO_MAGNITUDES}")
         return
     b.seismic["energy"] = s.seismic_energy(cat, p.step, allow_mixed_types=True)
-    b.seismic["fmd"] = s.frequency_magnitude(cat, allow_mixed_types=True)
+    b_cls, b_notes = s.b_value_classes(cat)  # VT by default; rockfalls never (issue 13)
+    b.seismic["b_classes"] = b_cls
+    b.notes.extend(f"b-value: {n}" for n in b_notes)
+    b.seismic["fmd"] = s.frequency_magnitude(cat, classes=b_cls, allow_mixed_types=True)
     try:
-        b.seismic["b_value"] = s.estimate_b_value(cat, allow_mixed_types=True)
-        b.seismic["b_series"] = s.b_value_series(cat, window=p.b_window_events, allow_mixed_types=True)
+        b.seismic["b_value"] = s.estimate_b_value(cat, classes=b_cls, allow_mixed_types=True)
+        b.seismic["b_series"] = s.b_value_series(cat, window=p.b_window_events, classes=b_cls,
+                                                 mc=b.seismic["b_value"].mc, allow_mixed_types=True)
     except DegasError as exc:
-        b.skipped.append(f"b-value: not run: {exc}")
+        b.skipped.append(f"b-value ({'+'.join(b_cls)}): not run: {exc}")
+    try:  # LP + hybrid separately, never mixed with VT
+        b.seismic["b_value_lp"] = s.estimate_b_value(cat, classes=p.lp_classes, allow_mixed_types=True)
+    except DegasError as exc:
+        b.notes.append(f"b-value of {'+'.join(p.lp_classes)}: not computed: {exc}")
     try:
         b.seismic["depths"] = s.summarise_depths(cat, "30D")
     except DegasError as exc:
@@ -490,6 +558,7 @@ def _review(b: RunBundle) -> None:
                            ("baseline", (t >= per.baseline_start) & (t < per.window_start))):
             try:
                 b.review_regime[f"b_{label}"] = estimate_b_value(cat.with_data(cat.data.loc[sel]),
+                                                                 classes=b.seismic.get("b_classes", ("VT",)),
                                                                  allow_mixed_types=True, min_events=30)
             except DegasError as exc:
                 b.review_regime[f"b_{label}"] = str(exc)

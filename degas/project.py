@@ -214,6 +214,17 @@ class Project:
     files: tuple[dict, ...] = field(default=())
     seed: int = 0
     inclusions: InclusionSettings = field(default_factory=InclusionSettings)
+    vent_latitude: float | None = None
+    vent_longitude: float | None = None
+    brief_weeks: int = 6
+    #: fractional 1σ systematic flux error per station (plume speed, geometry); default common practice
+    systematic: float = 0.20
+    systematic_by_station: tuple[tuple[str, float], ...] = ()
+    #: quality flags (lower case) of scans that enter the gas budget; any other flag is excluded
+    good_flags: tuple[str, ...] = ("good", "ok", "valid", "buena")
+    thresholds: tuple = ()  # degas.report.brief.Threshold entries from [thresholds]
+    #: share of 24 h each series' instrument can deliver (e.g. a daylight-only scanner ~0.5), per series id
+    capability: tuple[tuple[str, float], ...] = ()
 
     def parameters(self) -> dict:
         """Every parameter as plain values, for the methods section of the report."""
@@ -223,7 +234,8 @@ class Project:
 
 
 _SECTIONS = {
-    "volcano": {"name": "volcano", "observatory": "observatory"},
+    "volcano": {"name": "volcano", "observatory": "observatory", "vent_latitude": "vent_latitude",
+                "vent_longitude": "vent_longitude"},
     "series": {"gas": "gas", "magma": "magma", "ratio": "ratio", "catalog": "catalog"},
     "analysis": {"step": "step", "min_coverage": "min_coverage", "max_lag": "max_lag", "surrogates": "surrogates",
                  "bootstrap": "bootstrap", "rolling_window": "rolling_window", "rolling_step": "rolling_step",
@@ -232,7 +244,7 @@ _SECTIONS = {
     "changepoints": {"min_segment": "min_segment", "max_gap": "max_gap", "penalty": "penalty"},
     "regimes": {"gas_factor": "gas_factor", "magma_threshold": "magma_threshold", "ratio_low": "ratio_low",
                 "ratio_high": "ratio_high"},
-    "review": {"window_days": "window_days", "baseline_days": "baseline_days"},
+    "review": {"window_days": "window_days", "baseline_days": "baseline_days", "brief_weeks": "brief_weeks"},
     "seismicity": {"lp_classes": "lp_classes", "b_window_events": "b_window_events"},
 }
 
@@ -258,11 +270,12 @@ _TYPES: dict[str, tuple[type, ...]] = {
     "ratio_low": (int, float), "ratio_high": (int, float), "surrogates": (int,), "bootstrap": (int,),
     "rolling_surrogates": (int,), "window_days": (int,), "baseline_days": (int,), "b_window_events": (int,),
     "seed": (int,), "gas_background": (int, float), "relation_band": (int, float),
+    "vent_latitude": (int, float), "vent_longitude": (int, float), "brief_weeks": (int,),
 }
 
 
 def project_from_dict(raw: dict, where: str = "project") -> Project:
-    known = set(_SECTIONS) | {"petrology", "file", "inclusions"}
+    known = set(_SECTIONS) | {"petrology", "file", "inclusions", "budget", "thresholds", "coverage"}
     unknown = sorted(set(raw) - known)
     if unknown:
         raise ConfigError(f"{where}: unknown section(s) {unknown}; valid: {', '.join(sorted(known))}")
@@ -331,6 +344,7 @@ def project_from_dict(raw: dict, where: str = "project") -> Project:
             raise ConfigError(f"{where}: [petrology]: {exc}") from None
     if "inclusions" in raw:
         values["inclusions"] = _inclusion_settings(raw["inclusions"], where)
+    values.update(_weekly_sections(raw, where))
     if "file" in raw:
         from degas.io.mapping import options_from_dict
 
@@ -352,3 +366,44 @@ def project_from_dict(raw: dict, where: str = "project") -> Project:
     if not 0 <= proj.relation_band < 1:
         raise ConfigError(f"{where}: [regimes] relation_band must be between 0 and 1")
     return proj
+
+
+def _fraction(v, what: str, where: str, upper: float = 1.0) -> float:
+    if isinstance(v, bool) or not isinstance(v, int | float) or not 0 <= v <= upper:
+        raise ConfigError(f"{where}: {what} must be a number from 0 to {upper:g}, got {v!r}")
+    return float(v)
+
+
+def _weekly_sections(raw: dict, where: str) -> dict:
+    """[budget], [thresholds] and [coverage]: the weekly brief's and the budget's project settings."""
+    out: dict = {}
+    bud = raw.get("budget", {})
+    if not isinstance(bud, dict):
+        raise ConfigError(f"{where}: [budget] must be a table")
+    bad = sorted(set(bud) - {"systematic", "systematic_by_station", "good_flags"})
+    if bad:
+        raise ConfigError(f"{where}: unknown key(s) {bad} in [budget]; valid: good_flags, systematic, "
+                          "systematic_by_station")
+    if "systematic" in bud:
+        out["systematic"] = _fraction(bud["systematic"], "[budget] systematic", where, 5.0)
+    by = bud.get("systematic_by_station", {})
+    if not isinstance(by, dict):
+        raise ConfigError(f"{where}: [budget.systematic_by_station] must be a table of station = fraction")
+    out["systematic_by_station"] = tuple((str(k), _fraction(v, f"[budget.systematic_by_station] {k}", where, 5.0))
+                                         for k, v in by.items())
+    if "good_flags" in bud:
+        g = bud["good_flags"]
+        if not isinstance(g, list) or not all(isinstance(x, str) for x in g):
+            raise ConfigError(f"{where}: [budget] good_flags must be a list of texts")
+        out["good_flags"] = tuple(x.strip().lower() for x in g)
+    cov = raw.get("coverage", {})
+    if not isinstance(cov, dict):
+        raise ConfigError(f"{where}: [coverage] must be a table of series id = share of the day (0-1)")
+    out["capability"] = tuple((str(k), _fraction(v, f"[coverage] {k}", where)) for k, v in cov.items())
+    if any(v == 0 for _, v in out["capability"]):
+        raise ConfigError(f"{where}: [coverage] shares must be above 0")
+    if "thresholds" in raw:
+        from degas.analysis.weekly import parse_thresholds
+
+        out["thresholds"] = parse_thresholds(raw["thresholds"], where)
+    return out

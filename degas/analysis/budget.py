@@ -5,8 +5,18 @@
   bound). Flux uncertainties (1 sigma, kg/s per bin) are propagated two ways and both are given:
   independent errors per bin (root-sum-square) and fully correlated errors (plain sum, e.g. a
   common calibration or plume-speed bias).
+* Systematic terms (plume speed and plume geometry dominate in practice) are a fractional 1σ per station,
+  fully correlated within a station over the whole record and independent between stations, combined with
+  the scans' random error by the GUM rules (JCGM 100:2008: fully correlated components add linearly, independent
+  ones in quadrature): σ_sys² = Σ_s (f_s · M_s)², with M_s the part of the mass that station s contributes
+  (each bin's combined flux is the mean of the stations available in it), and σ_total² = σ_random² + σ_sys².
+  The project default f = 0.20 is common practice (scanning-spectrometer fluxes are usually quoted with
+  ~20-30 % total error, mostly plume speed; from memory, no source checked).
 * Cumulative DRE volume (m³) is the sum of extrusion rate (m³/s DRE) × bin length.
-* Gas-to-magma ratio per segment: kg SO2 per m³ DRE over the bins where both are known.
+* Gas-to-magma ratio per segment: kg SO2 per m³ DRE over the bins where both are known; the SO2 mass and
+  the DRE volume of those same bins are given beside it (``so2_mass_both_kg``, ``dre_volume_both_m3``), so that
+  the printed columns divide to the printed ratio. Its 95 % interval is computed on the log scale (log-normal
+  with the same relative 1σ), so its lower bound is never below zero.
 * Petrological method (Devine, Sigurdsson & Davis 1984): expected SO2 mass
   m_SO2 = (M_SO2/M_S) · (S_MI − S_MG) · V_DRE · ρ_DRE · (1 − φ_xtl), with M_SO2/M_S = 1.998 from
   IUPAC atomic weights (:mod:`degas.chem`). The crystal *volume* fraction is used as if crystals and
@@ -20,6 +30,7 @@
 
 from __future__ import annotations
 
+from collections.abc import Mapping
 from dataclasses import dataclass, field
 
 import numpy as np
@@ -29,6 +40,23 @@ from degas.chem import CO2_PER_SO2_MASS, SO2_PER_S
 from degas.errors import DegasError, NotEnoughDataError
 
 ERROR_CORRELATIONS = ("independent", "correlated")
+#: Fractional 1σ systematic error of a station's flux (plume speed, geometry): common practice, see above.
+DEFAULT_SYSTEMATIC = 0.20
+
+
+def log_normal_interval(value: float, sd: float, level: float = 0.95) -> tuple[float, float]:
+    """Interval for a positive quantity with 1σ ``sd``, on the log scale (never below zero).
+
+    Log-normal with median ``value`` and σ_ln = sqrt(ln(1 + (sd/value)²)), the moment match of the
+    log-normal distribution (e.g. Limpert, Stahel & Abbt 2001): bounds value·exp(∓z·σ_ln).
+    """
+    from scipy.stats import norm
+
+    if not (np.isfinite(value) and np.isfinite(sd)) or value <= 0 or sd < 0:
+        return np.nan, np.nan
+    s_ln = np.sqrt(np.log1p((sd / value) ** 2))
+    z = float(norm.ppf(0.5 + level / 2))
+    return float(value * np.exp(-z * s_ln)), float(value * np.exp(z * s_ln))
 
 
 @dataclass(frozen=True)
@@ -187,6 +215,8 @@ def gas_budget(
     seed: int | None = 0,
     excess_high: float = 3.0,
     excess_low: float = 0.5,
+    station_flux: pd.DataFrame | None = None,
+    systematic: float | Mapping[str, float] = 0.0,
 ) -> BudgetResult:
     """SO2 and DRE budget per segment, with the petrological expectation when inputs are given.
 
@@ -202,6 +232,11 @@ def gas_budget(
     n_monte_carlo, seed : Monte Carlo draws and seed.
     excess_high, excess_low : excess-factor thresholds for the ``finding`` text (project defaults 3 and 0.5,
         not published values; excess factors of ~10-100 are reported for explosive arc eruptions, Wallace 2001).
+    station_flux : per-station SO2 flux, kg/s, one column per station on the same grid, whose per-bin mean of
+        the available stations is ``so2_flux``; default: ``so2_flux`` is one station.
+    systematic : fractional 1σ systematic error (plume speed, geometry), one number for every station or a
+        mapping station -> fraction (missing stations: ``DEFAULT_SYSTEMATIC``); fully correlated within a
+        station, independent between stations. 0 leaves only the scans' random error.
     """
     if error_correlation not in ERROR_CORRELATIONS:
         raise DegasError(f"unknown error correlation {error_correlation!r}; valid: independent, correlated")
@@ -230,6 +265,25 @@ def gas_budget(
     vol = np.where(np.isfinite(q), q * dt, 0.0)
     vol_var = np.where(np.isfinite(q) & np.isfinite(qu), (qu * dt) ** 2, 0.0)
     has_unc = np.isfinite(gu[np.isfinite(g)]).any()
+    # systematic terms: each station's share of every bin's combined mass, times its fractional 1σ
+    if station_flux is None:
+        station_flux = pd.DataFrame({"SO2": so2_flux.to_numpy(dtype="float64", na_value=np.nan)}, index=idx)
+    if not station_flux.index.equals(idx):
+        raise DegasError("per-station SO2 flux is not on the budget's time grid")
+    sf = station_flux.to_numpy(dtype="float64", na_value=np.nan)
+    n_st = np.isfinite(sf).sum(axis=1)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        share = np.where(np.isfinite(sf) & (n_st > 0)[:, None], sf / np.where(n_st > 0, n_st, 1)[:, None], 0.0)
+    fr = np.array([float(systematic.get(str(c), DEFAULT_SYSTEMATIC)) if isinstance(systematic, Mapping)
+                   else float(systematic) for c in station_flux.columns])
+    if (fr < 0).any() or not np.isfinite(fr).all():
+        raise DegasError("systematic flux errors must be non-negative fractions (0.2 = 20 %)")
+    sys_mass = share * dt * fr[None, :]  # kg per bin and station, fully correlated within a station
+    has_sys = bool((fr > 0).any())
+    if has_sys:
+        listing = ", ".join(f"{c} {f:.0%}" for c, f in zip(station_flux.columns, fr, strict=True))
+        notes.append(f"systematic flux error (plume speed, geometry), 1σ per station, fully correlated within a "
+                     f"station: {listing}")
     cumulative = pd.DataFrame(
         {
             "so2_cum_kg": np.cumsum(mass),
@@ -265,9 +319,14 @@ def gas_budget(
         v_sd = float(np.sqrt(vol_var[sel].sum()))
         mb, vb = float(mass[both].sum()), float(vol[both].sum())
         sd_b = (np.sqrt(mass_var[both].sum()) if error_correlation == "independent" else mass_abs[both].sum())
+        sys_sel = float(np.sqrt((sys_mass[sel].sum(axis=0) ** 2).sum()))
+        sys_b = float(np.sqrt((sys_mass[both].sum(axis=0) ** 2).sum()))
+        rnd = sd_i if np.isfinite(sd_i) else 0.0
+        sd_b = float(np.hypot(sd_b, sys_b)) if has_sys else sd_b
         ratio = mb / vb if vb > 0 else np.nan
         ratio_sd = (abs(ratio) * np.sqrt((sd_b / mb) ** 2 + (np.sqrt(vol_var[both].sum()) / vb) ** 2)
-                    if vb > 0 and mb > 0 and has_unc else np.nan)
+                    if vb > 0 and mb > 0 and (has_unc or has_sys) else np.nan)
+        r_lo, r_hi = log_normal_interval(ratio, ratio_sd)
         out = {
             "start": start,
             "end": end,
@@ -275,15 +334,22 @@ def gas_budget(
             "so2_mass_kg": m_kg,
             "so2_mass_sd_independent_kg": sd_i,
             "so2_mass_sd_correlated_kg": sd_c,
+            "so2_mass_sd_systematic_kg": sys_sel,
+            "so2_mass_sd_total_kg": float(np.hypot(rnd, sys_sel)) if (has_unc or has_sys) else np.nan,
             "gas_coverage": float(np.isfinite(g[sel]).mean()) if sel.any() else 0.0,
             "dre_volume_m3": v,
             "dre_volume_sd_m3": v_sd,
             "ratio_kg_per_m3": ratio,
             "ratio_sd_kg_per_m3": ratio_sd,
+            "ratio_p2_5_kg_per_m3": r_lo,
+            "ratio_p97_5_kg_per_m3": r_hi,
+            "so2_mass_both_kg": mb,
+            "dre_volume_both_m3": vb,
+            "days_both": int(both.sum()),
         }
         if per_m3 is not None:
             exp_s = vb * per_m3
-            sd_use = sd_b if has_unc else 0.0
+            sd_use = sd_b if (has_unc or has_sys) else 0.0
             obs_s = np.clip(rng.normal(mb, sd_use, per_m3.size), 0, None)
             with np.errstate(divide="ignore", invalid="ignore"):
                 ex = obs_s / exp_s
@@ -356,3 +422,85 @@ def co2_flux(so2_flux: pd.Series, co2_so2_molar: pd.Series, *, max_gap: str | pd
     if lost:
         notes.append(f"{lost} SO2 flux values lie more than {gap} from any CO2/SO2 measurement: CO2 flux left missing")
     return Co2FluxResult(flux, ratio, gap, tuple(notes))
+
+
+def usable_scans(quality: pd.Series, good_flags: tuple[str, ...] = ("good", "ok", "valid", "buena")
+                 ) -> tuple[np.ndarray, dict[str, int]]:
+    """Which scans enter the budget: no quality flag, or one of ``good_flags`` (case and spaces ignored).
+
+    Returns the boolean mask and the count of excluded scans per flag. Flags such as cloud (flux biased low)
+    or low wind (poor plume speed) mark scans whose flux is not trusted; they are excluded, not down-weighted.
+    """
+    q = quality.astype("string").str.strip().str.lower()
+    ok = (q.isna() | (q == "") | q.isin(list(good_flags))).to_numpy(dtype=bool)
+    bad = q[~ok].value_counts()
+    return ok, {str(k): int(v) for k, v in bad.items()}
+
+
+@dataclass(frozen=True)
+class VolumeComparison:
+    """Erupted DRE volume two ways over the same span: survey difference and summed rate series.
+
+    ``survey_m3`` = last minus first survey (m³ DRE) inside the span; ``rate_m3`` = Σ rate × bin length over
+    the bins with a rate value in [first survey, last survey) (m³ DRE); ``rate_coverage`` is the share of those
+    bins with a value; below 1 the rate total is a lower bound (missing days count as zero) and
+    ``rate_is_lower_bound`` says so. ``difference_m3`` = rate − survey; ``ratio`` = rate / survey.
+    """
+
+    start: pd.Timestamp
+    end: pd.Timestamp
+    survey_m3: float
+    survey_sd_m3: float
+    rate_m3: float
+    rate_coverage: float
+    rate_is_lower_bound: bool
+    difference_m3: float
+    ratio: float
+    notes: tuple[str, ...] = field(default=())
+
+    def to_frame(self) -> pd.DataFrame:
+        return pd.DataFrame([{k: getattr(self, k) for k in (
+            "start", "end", "survey_m3", "survey_sd_m3", "rate_m3", "rate_coverage", "rate_is_lower_bound",
+            "difference_m3", "ratio")}])
+
+
+def compare_volumes(survey_times: pd.Series, survey_m3: np.ndarray, rate_m3_s: pd.Series,
+                    survey_sd_m3: np.ndarray | None = None) -> VolumeComparison:
+    """Survey volumes against the summed rate series over the span between the first and last survey.
+
+    Parameters
+    ----------
+    survey_times : UTC times of the cumulative survey volumes (at least two).
+    survey_m3 : cumulative DRE volume at each survey, m³.
+    rate_m3_s : extrusion rate, m³/s DRE, on a regular UTC grid (NaN = missing).
+    survey_sd_m3 : 1σ of each survey volume, m³ (the difference's σ adds the two ends in quadrature).
+    """
+    t = pd.DatetimeIndex(pd.to_datetime(survey_times, utc=True))
+    v = np.asarray(survey_m3, dtype=float)
+    ok = np.isfinite(v)
+    t, v = t[ok], v[ok]
+    idx = rate_m3_s.index
+    if len(idx) < 2:
+        raise NotEnoughDataError("the rate series needs at least two grid bins")
+    inside = (t >= idx[0]) & (t <= idx[-1] + (idx[1] - idx[0]))
+    t, v = t[inside], v[inside]
+    if len(t) < 2:
+        raise NotEnoughDataError("fewer than two surveys inside the rate series' span")
+    order = np.argsort(t)
+    t, v = t[order], v[order]
+    sd = np.zeros(len(v)) if survey_sd_m3 is None else np.asarray(survey_sd_m3, dtype=float)[ok][inside][order]
+    start, end = t[0], t[-1]
+    sel = (idx >= start.floor("D")) & (idx < end.floor("D"))
+    dt = (idx[1] - idx[0]).total_seconds()
+    q = rate_m3_s.to_numpy(dtype=float)[sel]
+    have = np.isfinite(q)
+    cov = float(have.mean()) if q.size else 0.0
+    rate_total = float(q[have].sum() * dt)
+    survey = float(v[-1] - v[0])
+    notes = []
+    if cov < 1:
+        notes.append(f"the rate series covers {cov:.0%} of the days between the first and last survey: its "
+                     "total is a lower bound")
+    return VolumeComparison(start, end, survey, float(np.hypot(np.nan_to_num(sd[0]), np.nan_to_num(sd[-1]))),
+                            rate_total, cov, cov < 1, rate_total - survey,
+                            rate_total / survey if survey > 0 else np.nan, tuple(notes))

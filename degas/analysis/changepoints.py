@@ -758,11 +758,14 @@ def _describe(prep: _Prepared, z, zs, sig, kept, starts_rows, m, confidence):
                         ratio = l2 / l1 if l1 != 0 else math.nan
                         se1 = abs(_back_slope(t, m1, sc)) * sig[j] / math.sqrt(n1)
                         se2 = abs(_back_slope(t, m2, sc)) * sig[j] / math.sqrt(n2)
-                        if l1 != 0 and l2 != 0:
-                            sr = abs(ratio) * math.sqrt((se1 / l1) ** 2 + (se2 / l2) ** 2)
+                        # interval on the log scale (delta method: var ln R = (se1/l1)² + (se2/l2)²), so that
+                        # it never reaches below zero; undefined when a level is not positive (issue 13)
+                        if l1 > 0 and l2 > 0:
+                            s_ln = math.sqrt((se1 / l1) ** 2 + (se2 / l2) ** 2)
+                            w = zq * s_ln
+                            rl, rh = ratio * math.exp(-w), (ratio * math.exp(w) if w < 700 else math.inf)
                         else:
-                            sr = math.nan
-                        rl, rh = ratio - zq * sr, ratio + zq * sr
+                            rl, rh = math.nan, math.nan
                     change_rows.append({
                         "change": ci, "time": t_change, "ci_start": prep.times[r[s_lo]],
                         "ci_end": prep.times[r[s_hi]], "series": name, "level_before": l1, "level_after": l2,

@@ -153,6 +153,9 @@ class SeriesReview:
     days_window: int
     days_baseline: int
     notes: tuple[str, ...] = field(default=())
+    #: a series sampled less often than daily (e.g. weekly ratios) is reviewed per sample: counts are samples
+    per_sample: bool = False
+    sample_interval_days: float = 1.0
 
     def to_row(self) -> dict:
         """One tidy row for the review table."""
@@ -168,6 +171,7 @@ class SeriesReview:
             "mann_kendall_p": mk.p_value if mk else np.nan,
             "coverage_window": self.coverage_window, "coverage_baseline": self.coverage_baseline,
             "days_window": self.days_window, "days_baseline": self.days_baseline,
+            "reviewed_per": "sample" if self.per_sample else "day",
             "notes": " ".join(self.notes),
         }
 
@@ -184,6 +188,9 @@ def review_series(series: TimeSeries, periods: ReviewPeriods, *, min_coverage: f
     n_boot : bootstrap resamples (of days, independently in window and baseline) for the ratio interval.
     seed : seed of the bootstrap.
     """
+    interval = sample_interval_days(series)
+    if interval >= PER_SAMPLE_DAYS:
+        return _review_samples(series, periods, interval, n_boot, seed)
     grid = make_grid(periods.baseline_start, periods.window_end - pd.Timedelta("1ns"), "1D")
     daily = resample(series, "1D", grid=grid, min_coverage=min_coverage)
     unit = series.meta.display_unit or series.meta.unit
@@ -221,8 +228,72 @@ def review_series(series: TimeSeries, periods: ReviewPeriods, *, min_coverage: f
                         periods, lw, lb, ratio, lo, hi, z, tr, cov_w, cov_b, int(wf.size), int(bf.size), tuple(notes))
 
 
+#: series whose typical spacing is this many days or more are reviewed per sample, not per day
+PER_SAMPLE_DAYS = 2.0
+
+
+def sample_interval_days(series: TimeSeries) -> float:
+    """Median spacing of the series' samples in days (1 when it cannot tell)."""
+    t = series.data["time"].dropna().sort_values().to_numpy(dtype="datetime64[ns]").astype("int64")
+    if t.size < 3:
+        return 1.0
+    d = np.diff(t)
+    d = d[d > 0]
+    return float(np.median(d) / 86_400e9) if d.size else 1.0
+
+
+def display_factor(series: TimeSeries) -> tuple[float, str | None]:
+    """Factor from the stored SI unit to the display unit, and the unit label (SI kept if it cannot convert)."""
+    unit = series.meta.display_unit or series.meta.unit
+    if series.meta.unit and unit and series.meta.unit != unit:
+        try:
+            return conversion_factor(series.meta.unit, unit.replace("³", "^3")), unit
+        except DegasError:
+            return 1.0, series.meta.unit
+    return 1.0, unit
+
+
+def _review_samples(series: TimeSeries, periods: ReviewPeriods, interval: float, n_boot: int, seed: int
+                    ) -> SeriesReview:
+    """Review of a series sampled every few days: the window's samples against the baseline's samples.
+
+    No bootstrap interval from fewer than two samples on either side (a single value has no spread).
+    Coverage is samples received / samples expected at the series' own interval.
+    """
+    factor, unit = display_factor(series)
+    d = series.data
+    t = d["time"]
+    v = d["value"].to_numpy(dtype=float) * factor
+    in_w = np.asarray((t >= periods.window_start) & (t < periods.window_end))
+    in_b = np.asarray((t >= periods.baseline_start) & (t < periods.window_start))
+    wf, bf = v[in_w & np.isfinite(v)], v[in_b & np.isfinite(v)]
+    notes = [f"sampled about every {interval:.0f} days: reviewed per sample ({wf.size} in the window, "
+             f"{bf.size} in the baseline)"]
+    if wf.size == 0:
+        notes.append("no data in the review window")
+    if bf.size == 0:
+        notes.append("no data in the baseline")
+    lw = float(np.median(wf)) if wf.size else np.nan
+    lb = float(np.median(bf)) if bf.size else np.nan
+    if wf.size >= 2 and bf.size >= 2:
+        ratio, lo, hi = _ratio_ci(wf, bf, n_boot, seed)
+    else:
+        ratio, lo, hi = (lw / lb if wf.size and bf.size and lb != 0 else np.nan), np.nan, np.nan
+        if wf.size and bf.size:
+            notes.append("no interval for the ratio: fewer than two samples on one side")
+    exp_w = max(periods.window_days / interval, 1.0)
+    exp_b = max(periods.baseline_days / interval, 1.0)
+    z = robust_z(wf, bf)
+    return SeriesReview(series.meta.series_id, series.meta.kind, series.meta.quantity, series.meta.station, unit,
+                        periods, lw, lb, ratio, lo, hi, z, None, float(min(1.0, wf.size / exp_w)),
+                        float(min(1.0, bf.size / exp_b)), int(wf.size), int(bf.size), tuple(notes), True, interval)
+
+
 def _ratio_ci(w: np.ndarray, b: np.ndarray, n_boot: int, seed: int) -> tuple[float, float, float]:
-    """Ratio of medians (window / baseline) and its 95 % percentile-bootstrap interval."""
+    """Ratio of medians (window / baseline) and its 95 % percentile-bootstrap interval.
+
+    The percentiles are taken of the log ratio (the interval is the same for a percentile bootstrap, but
+    it is stated on the log scale and never reaches below zero for positive levels)."""
     if w.size == 0 or b.size == 0:
         return np.nan, np.nan, np.nan
     mb = np.median(b)

@@ -1121,3 +1121,42 @@ def seismic_metrics(
     out.attrs["notes"] = tuple(cls.notes) + tuple(info.notes)
     out.attrs["step"] = str(grid.step)
     return out
+
+
+# --------------------------------------------------------------------------------------------
+# which events enter the b-value
+
+#: Classes whose magnitudes follow tectonic Gutenberg-Richter scaling: the b-value default.
+B_VALUE_CLASSES: tuple[str, ...] = ("VT",)
+#: Surface events (mass movements): never in a b-value or Mc, whatever ``classes`` says.
+SURFACE_CLASSES: tuple[str, ...] = ("rockfall",)
+
+
+def select_classes(catalog: EventCatalog, classes: Sequence[str] | None) -> tuple[EventCatalog, tuple[str, ...]]:
+    """The events of the given classes (None: all), plus a note; for filtering totals and energy."""
+    return _select_classes(catalog, classes)
+
+
+def b_value_classes(catalog: EventCatalog, classes: Sequence[str] | None = None
+                    ) -> tuple[tuple[str, ...], tuple[str, ...]]:
+    """The event classes that enter a b-value and Mc, plus notes.
+
+    Default VT (volcano-tectonic events are the ones expected to follow Gutenberg & Richter 1944 scaling;
+    common practice in volcano seismology). Surface events (rockfall) never enter: their "magnitudes" are
+    not earthquake source sizes. A catalogue without any classified event (every event 'other') uses 'other'
+    and says so.
+    """
+    want = _class_tuple(classes) if classes is not None else B_VALUE_CLASSES
+    dropped = [c for c in want if c in SURFACE_CLASSES]
+    want = tuple(c for c in want if c not in SURFACE_CLASSES)
+    notes = []
+    if dropped:
+        notes.append(f"{', '.join(dropped)} events never enter the b-value or Mc (surface events)")
+    if not want:
+        raise DegasError("no class left for the b-value: surface events (rockfall) never enter it")
+    if classes is None and len(catalog):
+        codes = _canonical_classes(catalog).codes
+        if not np.isin(codes, [EVENT_CLASSES.index(c) for c in want]).any() and (codes == _OTHER).all():
+            want = ("other",)
+            notes.append("the catalogue has no event classes: b-value from all (unclassified) events")
+    return want, tuple(notes)

@@ -42,7 +42,7 @@ def _pick(archive, series_id: str | None, kinds: tuple[str, ...], role: str):
 
 
 def _aligned(archive_dir: Path, picks: dict[str, tuple[str | None, tuple[str, ...], str]], step: str,
-             min_coverage: float):
+             min_coverage: float, good_flags: tuple[str, ...] | None = None, notes: list[str] | None = None):
     from degas.align import align
     from degas.store import Archive
 
@@ -54,6 +54,14 @@ def _aligned(archive_dir: Path, picks: dict[str, tuple[str | None, tuple[str, ..
             from degas.volumes import rates_from_cumulative
 
             records[name] = rates_from_cumulative(rec)
+        elif rec.meta.kind == "gas_flux" and good_flags is not None:  # flagged scans out (budget, issue 13)
+            from degas.analysis.budget import usable_scans
+
+            ok, bad = usable_scans(rec.data["quality"], good_flags)
+            records[name] = rec.with_data(rec.data.loc[ok].reset_index(drop=True))
+            if bad and notes is not None:
+                notes.append(f"{rec.meta.series_id}: scans flagged " + ", ".join(f"{k!r} ({v})" for k, v in
+                                                                                sorted(bad.items())) + " excluded")
     return align(records, step, min_coverage=min_coverage), entries
 
 
@@ -355,6 +363,10 @@ def budget(
     crystals: float = typer.Option(0.0, help="Crystal volume fraction, 0-1."),
     crystals_sd: float = typer.Option(0.0, help="1-sigma of the crystal fraction."),
     error_correlation: str = typer.Option("independent", help="Flux errors 'independent' per bin or 'correlated'."),
+    systematic: float = typer.Option(0.20, help="Fractional 1-sigma systematic flux error (plume speed, geometry), "
+                                                "fully correlated over the record; 0.20 is common practice."),
+    good_flags: str = typer.Option("good,ok,valid,buena", help="Comma-separated quality flags of scans that enter "
+                                                               "the budget (scans without a flag always do)."),
     n_mc: int = typer.Option(10_000, "--monte-carlo", help="Monte Carlo draws."),
     seed: int = typer.Option(0, help="Random seed."),
     csv: Path | None = typer.Option(None, "--csv", help="Write the per-segment budget to CSV."),
@@ -370,6 +382,7 @@ def budget(
         petro = PetrologyInputs.from_ppm(s_mi, s_mg, s_mi_sd_ppm=s_mi_sd, s_mg_sd_ppm=s_mg_sd, density_kg_m3=density,
                                          density_sd=density_sd, crystal_fraction=crystals,
                                          crystal_fraction_sd=crystals_sd)
+    flag_notes: list[str] = []
     if project is not None:  # the report's budget: regimes as segments, the project's petrology and series
         b = _run_project(archive_dir, project, ("regimes", "gas budget"), gas=gas, magma=extrusion, step=step,
                          min_coverage=min_coverage, petrology=petro)
@@ -383,15 +396,16 @@ def budget(
                  "q": (extrusion, ("extrusion_rate", "erupted_volume"), "extrusion rate")}
         if ratio is not None:
             picks["ratio"] = (ratio, ("gas_ratio",), "gas ratio")
-        tab, entries = _aligned(archive_dir, picks, step or "1D", 0.3 if min_coverage is None else min_coverage)
+        tab, entries = _aligned(archive_dir, picks, step or "1D", 0.3 if min_coverage is None else min_coverage,
+                                tuple(f.strip().lower() for f in good_flags.split(",") if f.strip()), flag_notes)
         g, q = tab.pair("gas", "q")
         seg = _segments(g, "gas")[["start", "end"]] if segments == "changepoints" else None
         res = gas_budget(g, q, so2_uncertainty=tab.frame["gas_uncertainty"], extrusion_uncertainty=None,
                          segments=seg, petrology=petro, error_correlation=error_correlation, n_monte_carlo=n_mc,
-                         seed=seed)
+                         seed=seed, systematic=systematic)
         title = f"Gas budget: {entries['gas'].series_id} vs {entries['q'].series_id}"
     t = Table(title=title)
-    cols = ["start", "end", "SO2 kt", "± kt (indep.)", "DRE Mm³", "kg SO2 / m³"]
+    cols = ["start", "end", "SO2 kt", "± kt (indep.)", "± kt (total)", "DRE Mm³", "kg SO2 / m³"]
     if petro is not None:
         cols += ["expected kt", "excess", "finding"]
     for c in cols:
@@ -399,13 +413,14 @@ def budget(
     frame = res.to_frame()
     for r in frame.to_dict("records"):
         row = [_fmt(r["start"]), _fmt(r["end"]), f"{r['so2_mass_kg'] / 1e6:.3g}",
-               _fmt(r["so2_mass_sd_independent_kg"] / 1e6), f"{r['dre_volume_m3'] / 1e6:.3g}",
+               _fmt(r["so2_mass_sd_independent_kg"] / 1e6), _fmt(r["so2_mass_sd_total_kg"] / 1e6),
+               f"{r['dre_volume_m3'] / 1e6:.3g}",
                _fmt(r["ratio_kg_per_m3"])]
         if petro is not None:
             row += [_fmt(r["expected_so2_kg"] / 1e6), _fmt(r["excess_factor"], ".2f"), r["finding"]]
         t.add_row(*row)
     console.print(t)
-    notes = list(tab.notes + res.notes)
+    notes = list(tab.notes + res.notes) + flag_notes
     payload: dict = {"segments": frame.to_dict("records"), "notes": notes}
     if ratio is not None and "ratio" in tab.kinds:
         co2 = co2_flux(g, tab.series("ratio"), max_gap=ratio_max_gap)

@@ -64,6 +64,37 @@ def _run(archive_dir: Path, project: Path | None, before: str | None, start: str
     return bundle
 
 
+def print_brief(bundle) -> None:
+    """The one-screen brief in the terminal: rows by what matters, thresholds crossed, the regime."""
+    from degas.report.brief import THRESHOLD_NOTE, brief_rows, regime_line
+
+    rows = brief_rows(bundle)
+    per = bundle.periods
+    t = Table(title=f"Brief: week {per.window_start:%Y-%m-%d} to {(per.window_end - pd.Timedelta('1D')):%Y-%m-%d} "
+                    f"(last day included)", box=box.SIMPLE_HEAD)
+    for c in ("series", "unit", "weeks (oldest → this)", "this week", "last week", "baseline", "× baseline (95 %)",
+              "coverage", "threshold"):
+        t.add_column(c, no_wrap=True)
+
+    def g(x) -> str:
+        return "-" if x is None or not np.isfinite(x) else (f"{x:,.0f}" if abs(x) >= 1000 else f"{x:.3g}")
+
+    for r in rows:
+        ci = f" ({g(r.ratio_low)}-{g(r.ratio_high)})" if np.isfinite(r.ratio_low) else ""
+        t.add_row(r.name, r.unit, " ".join(g(v) for v in r.weeks["value"]), g(r.now), g(r.last), g(r.baseline),
+                  ("-" if not np.isfinite(r.ratio) else f"{g(r.ratio)}{ci}"),
+                  "-" if r.coverage is None else f"{r.coverage:.0%}", "CROSSED" if r.crossed else "")
+    out = Console(width=max(console.width, 150), highlight=False)
+    out.print(t)
+    out.print(regime_line(bundle), markup=False)
+    for r in rows:
+        for c in r.crossed:
+            out.print(f"threshold crossed: {r.name}: {c}", markup=False)
+    if not bundle.project.thresholds:
+        out.print("no working thresholds in the project file ([thresholds])", markup=False)
+    out.print(THRESHOLD_NOTE, markup=False)
+
+
 def print_summary(bundle) -> None:
     from degas.report.summary import summarise
 
@@ -83,18 +114,27 @@ def weekly(
     from degas.safecsv import protect_frame
 
     bundle = _run(archive_dir, project, before, None, None)
+    print_brief(bundle)
     per = bundle.periods
     t = Table(title=f"Week {per.window_start:%Y-%m-%d} to {(per.window_end - pd.Timedelta('1D')):%Y-%m-%d} vs "
                     f"{per.baseline_days:.0f}-day baseline", box=box.SIMPLE_HEAD)
-    for c in ("series", "unit", "week", "baseline", "ratio (95 %)", "robust z", "trend/day", "MK p", "coverage"):
+    for c in ("series", "unit", "week", "baseline", "ratio (95 %)", "robust z", "trend/day", "MK p", "of 24 h"):
         t.add_column(c, no_wrap=True)
-    rows = [r.to_row() for r in bundle.review]
+    from degas.analysis.weekly import ROLE_ORDER
+
+    role = {"gas_flux": "gas", "extrusion_rate": "magma", "amplitude": "amplitude", "gas_ratio": "ratio"}
+    rows = sorted((r.to_row() for r in bundle.review),
+                  key=lambda r: (ROLE_ORDER.index(role.get(r["kind"], "other")), r["series"]))
+
     def f(x, spec: str) -> str:
-        return "-" if x is None or not np.isfinite(x) else format(x, spec)
+        if x is None or not np.isfinite(x):
+            return "-"
+        return f"{x:,.0f}" if spec == ".3g" and abs(x) >= 1000 else format(x, spec)
 
     for r in rows:
-        ratio = "-" if not np.isfinite(r["ratio"]) else (f"{r['ratio']:.2f} ({f(r['ratio_low'], '.2f')}-"
-                                                          f"{f(r['ratio_high'], '.2f')})")
+        ratio = "-" if not np.isfinite(r["ratio"]) else (
+            f"{r['ratio']:.2f} ({f(r['ratio_low'], '.2f')}-{f(r['ratio_high'], '.2f')})"
+            if np.isfinite(r["ratio_low"]) else f"{r['ratio']:.2f} (per sample)")
         t.add_row(r["series"], r["unit"], f(r["level_window"], ".3g"), f(r["level_baseline"], ".3g"), ratio,
                   f(r["robust_z"], ".2f"), f(r["trend_per_day"], "+.3g"), f(r["mann_kendall_p"], ".2f"),
                   f(r["coverage_window"], ".0%"))
@@ -114,13 +154,21 @@ def report(
     end: str | None = typer.Option(None, help="Retrospective: last day of the episode."),
     out: Path = typer.Option(Path("reports"), help="Folder for the HTML report."),
     appendix: Path | None = typer.Option(None, help="Also write tables (CSV, Markdown, LaTeX) and figures here."),
+    static: bool = typer.Option(True, "--static/--no-static", help="With --appendix: also PNG/SVG figures and one "
+                                                                   "PDF of them (needs the [static] extra and a "
+                                                                   "system Chromium)."),
 ) -> None:
     """Write the self-contained HTML report (weekly review, or a retrospective with --start/--end)."""
     from degas.report import write_report
 
     bundle = _run(archive_dir, project, before, start, end)
-    path = write_report(bundle, out, appendix)
+    messages: list[str] = []
+    path = write_report(bundle, out, appendix, messages, static=static)
+    if bundle.mode == "weekly":
+        print_brief(bundle)
     print_summary(bundle)
+    for m in messages:
+        console.print(m, markup=False)
     console.print(f"report: {path}", markup=False)
     if appendix is not None:
         console.print(f"appendix: {appendix}", markup=False)

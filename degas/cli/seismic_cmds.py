@@ -77,8 +77,9 @@ def quakes(
                                                                 "window as in the report."),
     step: str | None = typer.Option(None, help="Bin width for rates and energy, e.g. '1D', '7D', '6h' (default: "
                                                "project, else 1D)."),
-    classes: str | None = typer.Option(None, help="Comma-separated classes to show (default all): "
-                                                  + ", ".join(EVENT_CLASSES) + "."),
+    classes: str | None = typer.Option(None, help="Comma-separated classes (default all) for the rates, totals and "
+                                                  "energy; the b-value uses these classes except rockfall "
+                                                  "(default VT): " + ", ".join(EVENT_CLASSES) + "."),
     mc_method: str = typer.Option("maxc", help="Completeness method: maxc (+0.2) or gft."),
     mc: float | None = typer.Option(None, help="Magnitude of completeness to use instead of estimating it."),
     bin_width: float = typer.Option(0.1, help="Magnitude bin width."),
@@ -111,6 +112,11 @@ def quakes(
         from degas.cli.counts_cmds import quakes_from_counts
 
         return quakes_from_counts(catalog, read_notes, step, cls, csv, json_out)
+    b_cls, b_notes = sz.b_value_classes(catalog, cls)  # VT by default; rockfalls never
+    if cls is not None:  # --classes filters the totals and the energy too, not only the rate table
+        catalog, sel_notes = sz.select_classes(catalog, cls)
+        read_notes = [*read_notes, *sel_notes]
+    read_notes = [*read_notes, *(f"b-value: {n}" for n in b_notes)]
     rates = sz.event_rates(catalog, step, classes=cls)
     energy = sz.seismic_energy(catalog, step, classes=cls, allow_mixed_types=allow_mixed_types)
     metrics = sz.seismic_metrics(catalog, step, classes=cls, allow_mixed_types=allow_mixed_types)
@@ -118,13 +124,13 @@ def quakes(
     b_problem = series_problem = None
     try:
         bval = sz.estimate_b_value(catalog, mc=mc, bin_width=bin_width, method=b_method, mc_method=mc_method,
-                                   min_events=min_events, allow_mixed_types=allow_mixed_types)
+                                   min_events=min_events, classes=b_cls, allow_mixed_types=allow_mixed_types)
     except NotEnoughDataError as exc:
         b_problem = str(exc)
     if bval is not None:
         try:
             bseries = sz.b_value_series(catalog, window=window_events, mc=bval.mc, bin_width=bin_width,
-                                        method=b_method, allow_mixed_types=allow_mixed_types)
+                                        method=b_method, classes=b_cls, allow_mixed_types=allow_mixed_types)
         except NotEnoughDataError as exc:
             series_problem = str(exc)
 
@@ -146,8 +152,8 @@ def quakes(
     if bval is not None:
         comp = bval.completeness
         how = f"{comp.method}, +{comp.correction:g}" if comp is not None else "given"
-        console.print(f"Mc = {bval.mc:g} ({how}); b = {bval.b:.3f} ± {bval.sigma:.3f} (Shi & Bolt), "
-                      f"a = {bval.a:.2f}, n = {bval.n}, method {bval.method}", markup=False)
+        console.print(f"{'+'.join(b_cls)} events: Mc = {bval.mc:g} ({how}); b = {bval.b:.3f} ± {bval.sigma:.3f} "
+                      f"(Shi & Bolt), a = {bval.a:.2f}, n = {bval.n}, method {bval.method}", markup=False)
     else:
         console.print(f"b-value not available: {b_problem}", markup=False)
     if bseries is not None:
@@ -178,6 +184,7 @@ def quakes(
             "completeness": None if bval is None or bval.completeness is None
             else bval.completeness.to_frame().iloc[0].to_dict(),
             "b_value": None if bval is None else bval.to_frame().iloc[0].to_dict(),
+            "b_value_classes": list(b_cls),
             "b_value_problem": b_problem,
             "b_series": None if bseries is None else bseries.frame.to_dict(orient="records"),
             "notes": notes,

@@ -1,9 +1,10 @@
 """The report: one self-contained HTML file from a run's results, plus appendix files.
 
-This package reads results; analysis never imports it. Static images: none are written. plotly's static
-export needs kaleido, which drives a Chrome browser of its own at run time, and a second plotting stack
-(matplotlib) would duplicate every figure; the appendix gives each figure as a standalone HTML page instead
-(sharing one local copy of plotly.js, so it opens offline) and every table as CSV, Markdown and LaTeX.
+This package reads results; analysis never imports it. The appendix gives each figure as a standalone HTML page
+(sharing one local copy of plotly.js, so it opens offline), every table as CSV, Markdown and LaTeX, print tables in
+display units, and - with the optional ``[static]`` extra and a system Chromium - PNG, SVG and one PDF of the
+figures (:mod:`degas.report.appendix`). A weekly report opens with the one-screen brief
+(:mod:`degas.report.brief`).
 """
 
 from __future__ import annotations
@@ -20,11 +21,27 @@ from degas.report.depth_section import add_depth_section
 from degas.report.html import Page, esc, table_html
 from degas.report.summary import summarise
 from degas.report.tables import write_table
+from degas.safecsv import protect_frame
 from degas.units import KG_S_TO_T_D
 
 DAY = pd.Timedelta("1D")
+NS = pd.Timedelta(1, "ns")  # an end is exclusive: its last day is the day of end - 1 ns
 #: display unit of the levels in the change-point and segment tables, per analysed series
 CHANGE_UNITS = {"gas": "t/d", "ratio": "mol/mol"}
+
+
+def _stations_section(bundle) -> str:
+    from degas.report.appendix import stations_table
+
+    t = stations_table(bundle)
+    return "" if t.empty else table_html(t)
+
+
+#: sections after the analysis sections: (id, heading, builder(bundle) -> HTML or "", modes). A new section
+#: is one line here.
+EXTRA_SECTIONS: list[tuple[str, str, object, tuple[str, ...]]] = [
+    ("stations", "Stations and instruments", _stations_section, ("weekly", "retrospective")),
+]
 
 
 def last_day(bundle) -> pd.Timestamp:
@@ -68,7 +85,7 @@ def tables(bundle) -> dict[str, pd.DataFrame]:
     if bundle.xcorr is not None:
         lag_rows.append({"interval": "whole record", **bundle.xcorr.summary()})
     for s, e, label, res in bundle.xcorr_intervals:
-        lag_rows.append({"interval": f"{s:%Y-%m-%d} to {e:%Y-%m-%d} ({label})", **res.summary()})
+        lag_rows.append({"interval": f"{s:%Y-%m-%d} to {(e - NS):%Y-%m-%d} ({label})", **res.summary()})
     if lag_rows:
         out["lag_results"] = pd.DataFrame(lag_rows)
     if bundle.regimes is not None:
@@ -104,9 +121,9 @@ def build_figures(bundle) -> dict[str, tuple[object, str]]:
         figs["fig-xcorr"] = (F.xcorr_figure(bundle.xcorr), "Correlation of SO2 flux with magma output at each lag; "
                              "positive lag: gas changes first. Grey band: white-noise 95 % band; the surrogate "
                              "p-value accounts for searching over all lags.")
-    for i, (s, e, _label, res) in enumerate(bundle.xcorr_intervals):
+    for i, (s, e, _label, res) in enumerate(bundle.xcorr_intervals if bundle.mode != "weekly" else ()):
         figs[f"fig-xcorr-{i + 1}"] = (F.xcorr_figure(res, f"Lagged cross-correlation, coupled interval "
-                                                           f"{s:%Y-%m-%d} to {e:%Y-%m-%d}"), "")
+                                                           f"{s:%Y-%m-%d} to {(e - NS):%Y-%m-%d}"), "")
     if bundle.rolling is not None:
         figs["fig-rolling"] = (F.rolling_figure(bundle.rolling), "Coupling through time; grey markers: windows "
                                "whose peak is not significant against surrogates.")
@@ -115,16 +132,25 @@ def build_figures(bundle) -> dict[str, tuple[object, str]]:
         if bundle.budget.petrology is not None:
             figs["fig-excess"] = (F.excess_figure(bundle.budget), "Above 1: more SO2 than the erupted melt can "
                                   "supply (un-erupted magma or pre-existing vapour); below 1: less (gas retained).")
-    if "fmd" in bundle.seismic:
-        figs["fig-fmd"] = (F.fmd_figure(bundle.seismic["fmd"], bundle.seismic.get("b_value")), "")
+    b_cls = "+".join(bundle.seismic.get("b_classes", ("VT",)))
+    if "fmd" in bundle.seismic and bundle.mode != "weekly":
+        figs["fig-fmd"] = (F.fmd_figure(bundle.seismic["fmd"], bundle.seismic.get("b_value")),
+                           f"{b_cls} events only: rockfalls and other surface events never enter b or Mc.")
     if "b_series" in bundle.seismic:
-        figs["fig-bseries"] = (F.bseries_figure(bundle.seismic["b_series"]), "")
+        figs["fig-bseries"] = (F.bseries_figure(bundle.seismic["b_series"]), f"{b_cls} events only.")
+    from degas.report import seismic_figures as SF
+
+    for fid, fig, cap in SF.location_figures(bundle):
+        figs[fid] = (fig, cap)
     return figs
 
 
 def _methods(bundle) -> str:
     p = bundle.project.parameters()
-    prm = pd.DataFrame({"parameter": list(p), "value": [str(v) for v in p.values()]})
+    structured = ("petrology", "thresholds", "capability", "systematic_by_station")
+    prm = pd.DataFrame({"parameter": [k for k in p if k not in structured],
+                        "value": [", ".join(map(str, v)) if isinstance(v, list | tuple) else str(v)
+                                  for k, v in p.items() if k not in structured]})
     src = pd.DataFrame([{"file": v["name"], "sha256": k, "reader": v.get("reader"), "ingested": v.get("ingested_at"),
                          "rows accepted": v.get("accepted"), "rows rejected": v.get("rejected")}
                         for k, v in bundle.sources.items()])
@@ -150,6 +176,7 @@ def _methods(bundle) -> str:
         "<h3>Series used</h3>" + table_html(pd.DataFrame({"role": list(roles), "series": [str(v) for v in
                                                                                       roles.values()]})),
         "<h3>Parameters</h3>" + table_html(prm),
+        _project_tables(bundle),
         "<h3>Input files</h3>" + table_html(src),
         "<h3>Assumptions recorded at ingest</h3><ul>" + "".join(f"<li>{esc(a)}</li>" for a in bundle.assumptions)
         + "</ul>",
@@ -158,6 +185,39 @@ def _methods(bundle) -> str:
         "<h3>Run steps</h3>" + table_html(pd.DataFrame(bundle.timings, columns=["step", "seconds"])),
     ]
     return "".join(lines)
+
+
+def _project_tables(bundle) -> str:
+    """Petrological inputs, working thresholds, instrument capability and systematic errors as labelled tables."""
+    pr = bundle.project
+    out = []
+    pet = pr.petrology
+    if pet is not None:
+        rows = [("S in melt inclusions", f"{pet.s_melt_inclusion * 1e6:g}", f"{pet.s_melt_inclusion_sd * 1e6:g}",
+                 "ppm"),
+                ("S in matrix glass", f"{pet.s_matrix_glass * 1e6:g}", f"{pet.s_matrix_glass_sd * 1e6:g}", "ppm"),
+                ("DRE density", f"{pet.density_kg_m3:g}", f"{pet.density_sd:g}", "kg/m³"),
+                ("crystal volume fraction", f"{pet.crystal_fraction:g}", f"{pet.crystal_fraction_sd:g}", "0-1"),
+                ("expected SO2 per m³ DRE (Devine et al. 1984)", f"{pet.so2_per_m3:.4g}", "", "kg/m³")]
+        out.append("<h3>Petrological inputs</h3>" + table_html(pd.DataFrame(rows, columns=["input", "value",
+                                                                                         "1σ", "unit"])))
+    if pr.thresholds:
+        out.append("<h3>Working thresholds (the observatory's own, not official alert levels)</h3>" + table_html(
+            pd.DataFrame([{"series or role": t.series, "label": t.label, "crossed when": t.describe()}
+                          for t in pr.thresholds])))
+    sysd = dict(pr.systematic_by_station)
+    rows = [{"series": sid, "systematic flux error (1σ)": f"{sysd.get(sid, pr.systematic):.0%}"}
+            for sid in bundle.roles.get("gas", ())]
+    if rows:
+        out.append("<h3>Gas budget: systematic error per station</h3>" + table_html(pd.DataFrame(rows))
+                   + f'<p class="caption">Plume speed and geometry, fully correlated within a station; default '
+                   f"{pr.systematic:.0%} (common practice). Scans flagged other than "
+                   f"{', '.join(pr.good_flags)} are excluded from the budget.</p>")
+    if pr.capability:
+        out.append("<h3>Instrument capability (coverage is judged against it)</h3>" + table_html(
+            pd.DataFrame([{"series": k, "share of 24 h the instrument can cover": f"{v:.0%}"}
+                          for k, v in pr.capability])))
+    return "".join(out)
 
 
 def _notes_html(bundle) -> list[str]:
@@ -179,6 +239,12 @@ def render_report(bundle) -> tuple[str, dict]:
         sub = f"Retrospective of {bundle.start:%Y-%m-%d} to {last_day(bundle):%Y-%m-%d}"
     obs = f" · {bundle.project.observatory}" if bundle.project.observatory else ""
     page = Page(title=f"{bundle.project.volcano}: is gas tracking magma output?", subtitle=sub + obs)
+    if bundle.mode == "weekly" and bundle.periods is not None:
+        from degas.report.brief import brief_html
+        from degas.report.cautions import SHORT_CAUTION
+
+        page.lead = ('<section id="brief"><h2>This week at a glance</h2>'
+                     f'<p class="short-caution">{esc(SHORT_CAUTION)}</p>{brief_html(bundle)}</section>')
     sentences = summarise(bundle)
     page.add("summary", "Summary", '<ul class="summary">' + "".join(
         f'<li data-key="{esc(s.key)}">{esc(s.text)}</li>' for s in sentences) + "</ul>")
@@ -187,7 +253,8 @@ def render_report(bundle) -> tuple[str, dict]:
     order += [(k, "lag", "Lag between gas and magma output") for k in figs if k.startswith("fig-xcorr")]
     order += [("fig-rolling", "rolling", "Coupling through time"), ("fig-budget", "budget", "Gas budget"),
               ("fig-excess", "budget", "Gas budget"), ("fig-fmd", "seismicity", "Seismicity"),
-              ("fig-bseries", "seismicity", "Seismicity")]
+              ("fig-bseries", "seismicity", "Seismicity"), ("fig-depth-time", "seismicity", "Seismicity"),
+              ("fig-epicentres", "seismicity", "Seismicity")]
     sections: dict[str, tuple[str, list[str]]] = {}
     for fid, sid, heading in order:
         if fid in figs:
@@ -197,7 +264,8 @@ def render_report(bundle) -> tuple[str, dict]:
     if "regimes" in tabs:
         r = tabs["regimes"]
         munit = "m³/s DRE" if bundle.regimes.magma_measure == "extrusion_rate" else "eruptive fraction"
-        shown = pd.DataFrame({"start": r["start"], "end (exclusive)": r["end"], "days": r["duration_days"],
+        shown = pd.DataFrame({"first day": r["start"], "last day": (r["end"] - NS).dt.floor("D"),
+                              "days": r["duration_days"],
                               "label": r["label"], "SO2 (t/d)": r["gas_t_d"],
                               "× passive level": r["gas_to_baseline"], f"magma output ({munit})": r["magma_level"],
                               "gas per magma vs coupled": r["ratio_vs_expected"], "evidence": r["evidence"]})
@@ -208,19 +276,31 @@ def render_report(bundle) -> tuple[str, dict]:
         sections["series"][1].append("<h3>Change points</h3>" + table_html(tabs["change_points"]))
     if "lag_results" in tabs:
         sections.setdefault("lag", ("Lag between gas and magma output", []))[1].append(table_html(tabs["lag_results"]))
-    if bundle.granger is not None:
+    if bundle.granger is not None and bundle.mode != "weekly":
+        gr = bundle.granger.to_frame()
+        gr = pd.DataFrame({"cause": gr["cause"], "effect": gr["effect"], "lag (days)": gr["lag_s"] / 86400.0,
+                           "F": gr["f_stat"], "p": gr["p_value"], "df": [f"{a:.0f}, {b:.0f}" for a, b in
+                                                                        zip(gr["df_num"], gr["df_den"], strict=True)],
+                           "differenced": gr["differenced"]})
         sections["lag"][1].append("<h3>Granger tests (predictive precedence, not physical causation)</h3>"
-                                  + table_html(bundle.granger.to_frame()))
+                                  + table_html(gr))
     if "budget" in tabs:
         bt = tabs["budget"]
-        shown = pd.DataFrame({"start": bt["start"], "end (exclusive)": bt["end"], "days": bt["duration_days"],
-                              "SO2 (kt)": bt["so2_mass_kg"] / 1e6,
-                              "± kt (independent / correlated errors)": [
-                                  f"{a / 1e6:.3g} / {c / 1e6:.3g}" for a, c in
-                                  zip(bt["so2_mass_sd_independent_kg"], bt["so2_mass_sd_correlated_kg"], strict=True)],
-                              "DRE (Mm³)": bt["dre_volume_m3"] / 1e6, "kg SO2 per m³": bt["ratio_kg_per_m3"]})
+        shown = pd.DataFrame({"first day": bt["start"],
+                              "last day": (pd.to_datetime(bt["end"], utc=True) - NS).dt.floor("D"),
+                              "SO2 (kt, lower bound)": [f"{m / 1e6:.3g} ± {t / 1e6:.2g} ({c:.0%} of days)" for m, t, c
+                                                        in zip(bt["so2_mass_kg"], bt["so2_mass_sd_total_kg"],
+                                                               bt["gas_coverage"], strict=True)],
+                              "DRE (Mm³)": bt["dre_volume_m3"] / 1e6,
+                              "on days with both: SO2 (kt) / DRE (Mm³)": [
+                                  f"{a / 1e6:.3g} / {b / 1e6:.3g}" for a, b in
+                                  zip(bt["so2_mass_both_kg"], bt["dre_volume_both_m3"], strict=True)],
+                              "kg SO2 per m³ (95%)": [
+                                  "" if pd.isna(r) else f"{r:.3g} ({lo:.3g}–{hi:.3g})" for r, lo, hi in
+                                  zip(bt["ratio_kg_per_m3"], bt["ratio_p2_5_kg_per_m3"], bt["ratio_p97_5_kg_per_m3"],
+                                      strict=True)]})
         if "excess_factor" in bt:
-            shown["expected SO2 (kt, 95%)"] = [
+            shown["expected SO2 on those days (kt, 95%)"] = [
                 "" if pd.isna(e) else f"{e / 1e6:.3g} ({lo / 1e6:.3g}-{hi / 1e6:.3g})" for e, lo, hi in
                 zip(bt["expected_so2_kg"], bt["expected_so2_p2_5_kg"], bt["expected_so2_p97_5_kg"], strict=True)]
             shown["observed / expected (95%)"] = [
@@ -228,16 +308,52 @@ def render_report(bundle) -> tuple[str, dict]:
                 zip(bt["excess_factor"], bt["excess_p2_5"], bt["excess_p97_5"], strict=True)]
             shown["finding"] = bt["finding"]
         sections.setdefault("budget", ("Gas budget", []))[1].append(
-            table_html(shown) + '<p class="caption">Last row: the whole span. SI values in the appendix file '
+            table_html(shown) + '<p class="caption">Last row: the whole span. SO2 totals count missing days as '
+            "zero (lower bounds, with the share of days covered); ± is 1σ: the scans' random error and the "
+            "systematic plume-speed/geometry term per station (project [budget]), fully correlated within a station. "
+            "Scans flagged by the instrument (e.g. cloud, low wind) are excluded. The ratio divides the SO2 and DRE "
+            "of the days with both, as printed; its interval is on the log scale. SI values in the appendix file "
             "budget.csv.</p>")
+    if bundle.volumes is not None:
+        v = bundle.volumes
+        vt = pd.DataFrame([{"first survey": v.start, "last survey": v.end,
+                            "surveys (Mm³ DRE)": f"{v.survey_m3 / 1e6:.3g} ± {v.survey_sd_m3 / 1e6:.2g}",
+                            "rate series (Mm³ DRE)": f"{v.rate_m3 / 1e6:.3g}" + (" (lower bound)" if
+                                                                                 v.rate_is_lower_bound else ""),
+                            "rate coverage": f"{v.rate_coverage:.0%}",
+                            "difference rate − surveys (Mm³)": v.difference_m3 / 1e6, "rate / surveys": v.ratio}])
+        sections.setdefault("budget", ("Gas budget", []))[1].append(
+            "<h3>Erupted volume two ways</h3>" + table_html(vt) + '<p class="caption">Survey difference and the '
+            "summed rate series over the same days; a rate series with missing days gives a lower bound.</p>")
+    b_rows = [(f"{'+'.join(bundle.seismic.get('b_classes', ('VT',)))}", bundle.seismic.get("b_value")),
+              ("+".join(bundle.project.lp_classes), bundle.seismic.get("b_value_lp"))]
+    b_rows = [{"events": k, "b ± σ (Shi & Bolt 1982)": f"{v.b:.2f} ± {v.sigma:.2f}", "Mc": v.mc, "events ≥ Mc": v.n}
+              for k, v in b_rows if v is not None]
+    if b_rows:
+        sections.setdefault("seismicity", ("Seismicity", []))[1].append(
+            "<h3>b-value and Mc by event class</h3>" + table_html(pd.DataFrame(b_rows))
+            + '<p class="caption">Rockfalls and other surface events never enter b or Mc; LP + hybrid events are '
+            "estimated separately from VT events.</p>")
     for sid, (heading, parts) in sections.items():
         page.add(sid, heading, "".join(parts))
     add_depth_section(page, bundle)  # "Storage depth and gas source" (melt inclusions), when the run has them
+    for sid, heading, build, modes in EXTRA_SECTIONS:
+        body = build(bundle) if bundle.mode in modes else ""
+        if body:
+            page.add(sid, heading, body)
     rev = []
     if "weekly_review" in tabs:
-        wr = tabs["weekly_review"].drop(columns=["notes"])
-        wr["window_end"] = wr["window_end"] - DAY
-        rev.append(table_html(wr.rename(columns={"window_end": "window_last_day"})))
+        wr = tabs["weekly_review"]
+        rev.append(table_html(pd.DataFrame({
+            "series": wr["series"], "unit": wr["unit"], "week": wr["level_window"], "baseline": wr["level_baseline"],
+            "ratio (95%)": [f"{r:.3g} ({lo:.3g}–{hi:.3g})" if pd.notna(lo) else ("" if pd.isna(r) else f"{r:.3g}")
+                            for r, lo, hi in zip(wr["ratio"], wr["ratio_low"], wr["ratio_high"], strict=True)],
+            "robust z": wr["robust_z"], "trend per day (95%)": [
+                "" if pd.isna(t) else f"{t:+.3g} ({lo:+.3g} to {hi:+.3g})" for t, lo, hi in
+                zip(wr["trend_per_day"], wr["trend_low"], wr["trend_high"], strict=True)],
+            "coverage": [f"{c:.0%}" for c in wr["coverage_window"]], "per": wr["reviewed_per"]}))
+            + f'<p class="caption">Window {per.window_start:%Y-%m-%d} to {(per.window_end - DAY):%Y-%m-%d} (last day '
+            "included). All columns in the appendix file weekly_review.csv.</p>")
     if "weekly_event_rates" in tabs:
         rev.append("<h3>Event rates, week against baseline</h3>" + table_html(tabs["weekly_event_rates"]))
     if rev:
@@ -258,8 +374,10 @@ def render_report(bundle) -> tuple[str, dict]:
     return html, figs
 
 
-def write_report(bundle, out_dir: str | Path = "reports", appendix: str | Path | None = None) -> Path:
-    """Write the report (and optionally the appendix) and return the report's path."""
+def write_report(bundle, out_dir: str | Path = "reports", appendix: str | Path | None = None,
+                 messages: list[str] | None = None, static: bool = True) -> Path:
+    """Write the report (and optionally the appendix) and return the report's path; lines for the user (e.g.
+    why static figures were not written) are appended to ``messages``."""
     from degas.errors import DegasError
 
     out_dir = Path(out_dir)
@@ -271,14 +389,19 @@ def write_report(bundle, out_dir: str | Path = "reports", appendix: str | Path |
         tmp.write_text(html, encoding="utf-8")
         tmp.replace(path)
         if appendix is not None:
-            write_appendix(bundle, Path(appendix), figs)
+            write_appendix(bundle, Path(appendix), figs, messages, static=static)
     except OSError as exc:
         raise DegasError(f"cannot write the report: {exc.strerror or exc}: {exc.filename or out_dir}") from None
     return path
 
 
-def write_appendix(bundle, directory: Path, figs: dict | None = None) -> list[Path]:
-    """Tables as CSV (formula-protected), Markdown and LaTeX; figures as standalone HTML pages."""
+def write_appendix(bundle, directory: Path, figs: dict | None = None, messages: list[str] | None = None,
+                   static: bool = True) -> list[Path]:
+    """Tables as CSV (formula-protected, SI), Markdown and LaTeX; print tables in display units; the daily
+    aligned-series CSV with coverage; figures as standalone HTML pages and, where kaleido and a Chromium are
+    installed, as PNG, SVG and PDF (otherwise one line in ``messages`` says what to install)."""
+    from degas.report import appendix as A
+
     directory.mkdir(parents=True, exist_ok=True)
     paths: list[Path] = []
     for name, df in tables(bundle).items():
@@ -293,6 +416,21 @@ def write_appendix(bundle, directory: Path, figs: dict | None = None) -> list[Pa
         p = directory / f"{fid}.html"
         fig.write_html(p, include_plotlyjs="directory", full_html=True)
         paths.append(p)
+    for name, df in A.display_tables(bundle).items():
+        paths += write_table(df, directory, name, caption=f"{bundle.project.volcano}: "
+                                                          f"{name.removeprefix('print_').replace('_', ' ')}")
+    daily = A.aligned_daily(bundle)
+    if not daily.empty:
+        p = directory / "aligned_daily.csv"
+        protect_frame(daily).to_csv(p, index=False)
+        paths.append(p)
+    if not static:
+        return paths
+    static_paths, problem = A.write_static_figures(
+        figs, directory / "static", title=f"{bundle.project.volcano}: figures of {report_name(bundle)}")
+    paths += static_paths
+    if problem and messages is not None:
+        messages.append(problem)
     return paths
 
 

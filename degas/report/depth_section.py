@@ -187,7 +187,7 @@ def add_depth_section(page, bundle) -> None:
     parts.append(page.figure(isobar_figure(ctx, mi), "fig-isobars",
                              "Each point is one analysis; grey lines are isobars (fluid from pure CO2 to pure H2O). "
                              "Matrix glass sits near the origin: degassed."))
-    parts.append(page.figure(depth_time_figure(ctx), "fig-depth-time",
+    parts.append(page.figure(depth_time_figure(ctx), "fig-storage-depth-time",
                              "Shaded: the 5–95 % range of the inclusions' storage depths in each phase's time "
                              "window; coloured line: median; diamonds: each inclusion at its eruption date. Points: "
                              "every located VT hypocentre; black line: their median depth per 30 days."))

@@ -11,12 +11,17 @@ import plotly.graph_objects as go
 from plotly.subplots import make_subplots
 
 from degas.report.decimate import gaps_as_breaks, minmax_decimate
-from degas.report.html import REGIME_COLOURS, REGIME_LABELS, esc
+from degas.report.html import REGIME_LABELS, esc, regime_colour
 from degas.units import KG_S_TO_T_D
 
 STATION_COLOURS = ("#1f5f8b", "#c0612b", "#6b8e23", "#7d4e9e", "#2f8f8f", "#9e4e4e")
-CLASS_COLOURS = {"VT": "#3b6ea5", "LP": "#c8553d", "hybrid": "#8e5ea2", "rockfall": "#8c8c5a",
-                 "explosion": "#d62828", "tremor": "#2a9d8f", "other": "#9a9a9a"}
+# one distinct colour per class (no two reds): blue, orange, purple, brown, black, teal, grey
+CLASS_COLOURS = {"VT": "#3b6ea5", "LP": "#d9822b", "hybrid": "#8e5ea2", "rockfall": "#8c6d31",
+                 "explosion": "#1a1a1a", "tremor": "#2a9d8f", "other": "#9a9a9a"}
+#: the classes of each events-per-day panel of the overview
+EVENT_PANELS = (("events_lp", "LP + hybrid per day", ("LP", "hybrid")),
+                ("events_rockfall", "rockfalls per day", ("rockfall",)),
+                ("events_other", "VT and other events per day", ("VT", "explosion", "tremor", "other")))
 LAYOUT = dict(template="plotly_white", font=dict(family="system-ui, sans-serif", size=12),
               margin=dict(l=70, r=20, t=50, b=40), legend=dict(orientation="h", y=-0.06))
 DAY = pd.Timedelta("1D")
@@ -35,12 +40,12 @@ def _shade_regimes(fig: go.Figure, regimes, rows: int) -> None:
         return
     seen = set()
     for r in regimes.intervals.itertuples():
-        fig.add_vrect(x0=r.start, x1=r.end, fillcolor=REGIME_COLOURS.get(r.label, "rgba(0,0,0,0.05)"), line_width=0,
+        fig.add_vrect(x0=r.start, x1=r.end, fillcolor=regime_colour(r.label), line_width=0,
                       layer="below", row="all", col=1)
         if r.label not in seen:
             seen.add(r.label)
             fig.add_trace(go.Scatter(x=[None], y=[None], mode="markers", name=REGIME_LABELS.get(r.label, r.label),
-                                     marker=dict(symbol="square", size=14, color=REGIME_COLOURS.get(r.label)),
+                                     marker=dict(symbol="square", size=14, color=regime_colour(r.label)),
                                      legendgroup="regimes", showlegend=True), row=1, col=1)
 
 
@@ -68,10 +73,15 @@ def overview_figure(bundle) -> go.Figure:
     if "chronology" in recs:
         rows.append(("chronology", "eruptive fraction"))
     if "catalog" in recs:
-        rows.append(("events", "events per day"))
-        rows.append(("energy", "cum. energy (J)"))
+        rr = bundle.seismic.get("rates")
+        for key, label, classes in EVENT_PANELS:
+            if rr is None or any(c in rr.counts and rr.counts[c].sum() > 0 for c in classes):
+                rows.append((key, label))
+        rows.append(("energy", "cumulative seismic energy (J)"))
+        if "b_series" in bundle.seismic:
+            rows.append(("bvalue", f"b-value ({'+'.join(bundle.seismic.get('b_classes', ('VT',)))})"))
     for sid in bundle.roles["amplitude"]:
-        rows.append((sid, esc(f"{recs[sid].meta.quantity} ({recs[sid].meta.unit or ''})")))
+        rows.append((sid, esc(f"seismic amplitude ({recs[sid].meta.unit or 'counts'})")))
     if not rows:
         return go.Figure()
     fig = make_subplots(rows=len(rows), cols=1, shared_xaxes=True, vertical_spacing=0.025,
@@ -116,32 +126,74 @@ def overview_figure(bundle) -> go.Figure:
             fig.add_trace(go.Scatter(x=al.frame.index, y=al.frame["chronology"], mode="lines", fill="tozeroy",
                                      line=dict(color="#b5651d", width=1), name="eruptive fraction"), row=i, col=1)
             fig.update_yaxes(range=[0, 1.05], row=i, col=1)
-        elif key == "events":
+        elif key.startswith("events_"):
             rr = bundle.seismic.get("rates")
+            classes = dict((k, c) for k, _l, c in EVENT_PANELS)[key]
             if rr is not None:
                 per_day = rr.counts / (rr.step / DAY)
-                for c in rr.classes:
+                for c in classes:
                     if c in per_day and per_day[c].sum() > 0:
                         fig.add_trace(go.Scatter(x=per_day.index, y=per_day[c], mode="lines", name=f"{c} per day",
                                                  line=dict(width=1.1, color=CLASS_COLOURS.get(c, "#555")),
-                                                 legendgroup="events"), row=i, col=1)
-            _changes(fig, bundle.changepoints.get("lp_hybrid_rate"), i, "#c8553d")
+                                                 legendgroup=key), row=i, col=1)
+            if key == "events_lp":
+                _changes(fig, bundle.changepoints.get("lp_hybrid_rate"), i, CLASS_COLOURS["LP"])
         elif key == "energy":
             er = bundle.seismic.get("energy")
             if er is not None and "total" in er.cumulative_energy_j:
+                # linear: the steps of the cumulative curve are the energetic episodes (a log axis hides them)
                 fig.add_trace(go.Scatter(x=er.cumulative_energy_j.index, y=er.cumulative_energy_j["total"],
                                          mode="lines", line=dict(color="#444", width=1.4), name="cumulative energy"),
                               row=i, col=1)
-                fig.update_yaxes(type="log", row=i, col=1)
+        elif key == "bvalue":
+            f = bundle.seismic["b_series"].frame
+            fig.add_trace(go.Scatter(x=np.r_[f["time"], f["time"][::-1]], y=np.r_[f["b_upper"], f["b_lower"][::-1]],
+                                     fill="toself", fillcolor="rgba(59,110,165,0.18)", line=dict(width=0),
+                                     name="b ± σ", showlegend=False), row=i, col=1)
+            fig.add_trace(go.Scatter(x=f["time"], y=f["b"], mode="lines", line=dict(color=CLASS_COLOURS["VT"]),
+                                     name="b-value"), row=i, col=1)
         else:
             rec = recs[key]
             x, y = _points(rec.data["time"], rec.data["value"].to_numpy())
-            fig.add_trace(go.Scatter(x=x, y=y, mode="lines", line=dict(color="#2f8f8f", width=1), name=esc(key)),
-                          row=i, col=1)
+            fig.add_trace(go.Scatter(x=x, y=y, mode="lines", line=dict(color="#2f8f8f", width=1),
+                                     name=esc(f"seismic amplitude {rec.meta.station or ''}".strip())), row=i, col=1)
+            fig.update_yaxes(type="log", row=i, col=1)
     _shade_regimes(fig, bundle.regimes, len(rows))
     fig.update_layout(**LAYOUT, height=190 * len(rows) + 120, hovermode="x unified",
-                      title="Monitoring series on one time axis (dashed: change points; shading: regimes)")
+                      title="Monitoring series on one time axis (dashed: change points; shading: regimes, colours "
+                            "with no alert-level meaning)")
+    fig.update_yaxes(exponentformat="power", showexponent="all")  # readable ticks: no "10B" for 10^10
+    _legends_beside_panels(fig, len(rows))
     return fig
+
+
+def _legends_beside_panels(fig: go.Figure, n_rows: int) -> None:
+    """One legend per panel, placed at the right of the panel it names (plotly's multiple legends)."""
+    rows_of, shading = {}, []
+    for tr in fig.data:
+        if tr.legendgroup == "regimes":
+            shading.append(tr)
+            continue
+        ya = getattr(tr, "yaxis", None) or "y"
+        rows_of.setdefault(ya, []).append(tr)
+    k = -1
+    for k, (ya, traces) in enumerate(sorted(rows_of.items(), key=lambda kv: int(kv[0][1:] or 1))):
+        name = "legend" if k == 0 else f"legend{k + 1}"
+        axis = fig.layout["yaxis" + ya[1:]]
+        top = axis.domain[1] if axis.domain else 1.0
+        for tr in traces:
+            tr.legend = name
+        fig.layout[name] = dict(x=1.01, xanchor="left", y=top, yanchor="top", font=dict(size=10),
+                                bgcolor="rgba(255,255,255,0.6)", orientation="v")
+    if shading:  # the regime key, on the figure, above the panels
+        name = "legend" if k < 0 else f"legend{k + 2}"
+        for tr in shading:
+            tr.legend = name
+        fig.layout[name] = dict(x=0, xanchor="left", y=1.0, yanchor="bottom", orientation="h", font=dict(size=10),
+                                title=dict(text="regime shading:", side="top"), entrywidth=0.5,
+                                entrywidthmode="fraction")
+    fig.update_layout(margin=dict(r=230, t=150), title=dict(y=1.0, yref="container", yanchor="top",
+                                                            pad=dict(t=12)))
 
 
 def xcorr_figure(res, title: str = "Lagged cross-correlation (positive lag = gas leads magma output)") -> go.Figure:

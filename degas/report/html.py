@@ -7,19 +7,28 @@ Everything that comes from input data (station names, file names, notes, free te
 from __future__ import annotations
 
 import html
+import re
 from dataclasses import dataclass, field
 
 import pandas as pd
 
 from degas.report.cautions import SHORT_CAUTION, caution_list
 
-# the report's own palette (regimes and series), chosen for contrast on white and for colour-blind readers
+# regime shading: blue-purple tones with no alert-level meaning (no green / amber / red), keyed by label; a
+# label this table does not know (regimes may gain or rename labels) gets the neutral fallback, never an error
 REGIME_COLOURS = {
-    "coupled": "rgba(46, 125, 110, 0.22)",
-    "quiet": "rgba(120, 120, 120, 0.14)",
-    "gas_only": "rgba(214, 160, 30, 0.28)",
-    "magma_only": "rgba(170, 60, 90, 0.26)",
+    "coupled": "rgba(70, 110, 170, 0.20)",
+    "quiet": "rgba(150, 160, 180, 0.16)",
+    "gas_only": "rgba(120, 90, 170, 0.24)",
+    "magma_only": "rgba(60, 60, 120, 0.24)",
 }
+REGIME_FALLBACK_COLOUR = "rgba(128, 128, 150, 0.12)"
+
+
+def regime_colour(label: str) -> str:
+    """Shading colour of a regime label (neutral fallback for labels without their own colour)."""
+    return REGIME_COLOURS.get(label, REGIME_FALLBACK_COLOUR)
+
 REGIME_LABELS = {
     "coupled": "coupled: gas follows magma output",
     "quiet": "quiet: little gas, no output",
@@ -38,16 +47,45 @@ h2{font-size:1.15em;border-bottom:2px solid #c9b98a;padding-bottom:4px}
 .cautions{background:#fff4dc;border-left:6px solid #b8860b;padding:10px 16px}
 .cautions li{margin:4px 0}
 .summary li{margin:6px 0}
-table.data{border-collapse:collapse;font-size:.86em;margin:8px 0}
-table.data th,table.data td{border:1px solid #d6d2c4;padding:3px 7px;text-align:right}
+table.data{border-collapse:collapse;font-size:.86em;margin:8px 0;max-width:100%}
+table.data th,table.data td{border:1px solid #d6d2c4;padding:3px 7px;text-align:right;overflow-wrap:break-word}
 table.data th{background:#ece7d8}
 table.data td.t{text-align:left;max-width:420px}
-.scroll{overflow-x:auto}
+.scroll{overflow-x:auto;max-width:100%}
+abbr.sha{text-decoration:underline dotted;cursor:help}
+#brief{background:#fff;border:1px solid #d6d2c4;padding:4px 16px 8px;margin:14px 0}
+#brief h2{margin-top:8px}
+.brief-list{margin:4px 0;padding-left:20px}.brief-list li{margin:2px 0}
+li.crossed{font-weight:600}
+table.brief td{vertical-align:middle;padding:2px 7px}
+table.brief tr.crossed td{background:#efeaf7}
+.unit{color:#5b6469;font-size:.85em}
+.muted{color:#8a8f93}
+svg.spark polyline{fill:none;stroke:#3b4f7a;stroke-width:1.5}
+svg.spark circle{fill:#3b4f7a}
+.short-caution{font-size:.88em;color:#3b454a;margin:4px 0}
+@media print{
+ body{background:#fff;font-size:10.5pt}
+ header{background:none;color:#000;padding:0 0 6pt;border-bottom:1.5pt solid #000}
+ main{max-width:none;padding:0}
+ section{margin:10pt 0;break-inside:auto}
+ h2{break-after:avoid}
+ .figure,table.data,#brief{break-inside:avoid}
+ .scroll{overflow:visible}
+ table.data{font-size:8.5pt}
+ .modebar-container,.modebar{display:none!important}
+ .cautions{background:none;border:1pt solid #000}
+ abbr.sha::after{content:" (" attr(title) ")";font-size:7pt;word-break:break-all}
+ a{color:#000;text-decoration:none}
+}
 .figure{margin:12px 0;background:#fff;border:1px solid #e3dfd2}
 .caption{font-size:.85em;color:#4a555b;margin:4px 8px 10px}
 footer{font-size:.82em;color:#4a555b;border-top:1px solid #d6d2c4;padding:12px 28px}
 code{font-size:.92em}
 """
+
+
+SHA_RE = re.compile(r"[0-9a-f]{64}")
 
 
 def esc(text) -> str:
@@ -69,6 +107,9 @@ def table_html(df: pd.DataFrame, max_rows: int = 200, float_format: str = "{:.4g
                 txt, cls = (v.strftime(fmt) if not pd.isna(v) else ""), "t"
             else:
                 txt, cls = ("" if v is None or v is pd.NA else str(v)), "t"
+            if cls == "t" and SHA_RE.fullmatch(txt):  # a SHA-256: shortened, the full value on hover
+                cells.append(f'<td class="t"><abbr class="sha" title="{esc(txt)}">{esc(txt[:12])}…</abbr></td>')
+                continue
             cells.append(f'<td class="{cls}">{esc(txt)}</td>' if cls else f"<td>{esc(txt)}</td>")
         rows.append("<tr>" + "".join(cells) + "</tr>")
     more = f'<p class="caption">{len(df) - max_rows} more rows in the appendix files.</p>' if len(df) > max_rows else ""
@@ -84,6 +125,7 @@ class Page:
     subtitle: str = ""
     sections: list[tuple[str, str, str]] = field(default_factory=list)  # (id, heading, html)
     figure_ids: list[str] = field(default_factory=list)
+    lead: str = ""  # HTML shown before the cautions (the weekly brief, which carries its own short caution)
 
     def add(self, section_id: str, heading: str, body_html: str) -> None:
         self.sections.append((section_id, heading, body_html))
@@ -100,7 +142,8 @@ class Page:
         from plotly.offline import get_plotlyjs
 
         caut = "".join(f"<li>{esc(c)}</li>" for c in caution_list(cautions_extra))
-        body = [f'<section id="cautions" class="cautions"><h2>Read this first</h2><ul>{caut}</ul></section>']
+        body = [self.lead] if self.lead else []
+        body.append(f'<section id="cautions" class="cautions"><h2>Read this first</h2><ul>{caut}</ul></section>')
         for sid, heading, content in self.sections:
             body.append(f'<section id="{esc(sid)}"><h2>{esc(heading)}</h2>{content}</section>')
         return (

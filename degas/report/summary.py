@@ -14,6 +14,7 @@ import pandas as pd
 from degas.report.html import REGIME_LABELS
 
 DAY = pd.Timedelta("1D")
+NS = pd.Timedelta(1, "ns")  # ends are exclusive: the last day shown is the day of end - 1 ns
 
 
 @dataclass(frozen=True)
@@ -36,12 +37,24 @@ def _num(x: float, digits: int = 3) -> str:
 
 
 QUANTITY_NAMES = {"so2_flux": "SO2 flux", "co2_flux": "CO2 flux", "h2s_flux": "H2S flux",
-                  "extrusion_rate": "extrusion rate", "co2_so2_ratio": "CO2/SO2 ratio", "rsam": "RSAM",
-                  "ssam": "SSAM"}
+                  "extrusion_rate": "extrusion rate", "co2_so2_ratio": "CO2/SO2 ratio", "rsam": "seismic amplitude",
+                  "ssam": "seismic spectral amplitude", "amplitude": "seismic amplitude"}
 
 
 def _name(quantity: str) -> str:
     return QUANTITY_NAMES.get(quantity, quantity.replace("_", " "))
+
+
+def _coverage(bundle, r) -> str:
+    """Coverage judged against what the instrument can deliver (project [coverage]), or of the samples due."""
+    from degas.analysis.weekly import coverage_vs_capability
+
+    if getattr(r, "per_sample", False):
+        return f"{r.days_window} sample(s) in the week, reviewed per sample"
+    cap = dict(getattr(bundle.project, "capability", ())).get(r.series_id)
+    if cap is None:
+        return f"coverage {r.coverage_window:.0%}"
+    return f"coverage {coverage_vs_capability(r.coverage_window, cap):.0%} of what the instrument can deliver"
 
 
 def _p(p: float) -> str:
@@ -53,7 +66,6 @@ def _p(p: float) -> str:
 def lag_sentence(key: str, res, where: str) -> Sentence:
     ci = "" if res.lag_ci is None else (f" ({res.ci_level:.0%} interval {res.lag_ci[0] / DAY:+.0f} to "
                                         f"{res.lag_ci[1] / DAY:+.0f} d)")
-    where = where.replace(" to ", " until ") if where.startswith("Coupled") else where
     significant = np.isfinite(res.p_value) and res.p_value < 0.05
     excludes_zero = res.lag_ci is not None and (res.lag_ci[0] > pd.Timedelta(0) or res.lag_ci[1] < pd.Timedelta(0))
     if not significant:
@@ -84,7 +96,7 @@ def regime_sentences(bundle) -> list[Sentence]:
             if r.duration_days < 7:
                 continue
             if label == "gas_only":
-                what = (f"Gas without magma output (decoupled degassing) from {_d(r.start)} until {_d(r.end)} "
+                what = (f"Gas without magma output (decoupled degassing) from {_d(r.start)} to {_d(r.end - NS)} "
                         f"({r.duration_days:.0f} days): SO2 {_num(r.gas_t_d)} t/d, {r.gas_to_baseline:.1f}× the "
                         f"background g0 of the gas–magma relation"
                         + (f" and above the {_num(r.predicted_t_d)} t/d it predicts"
@@ -94,7 +106,7 @@ def regime_sentences(bundle) -> list[Sentence]:
                 if not np.isfinite(r.ratio_vs_expected):
                     continue  # without a reference gas-per-magma ratio the label is not supported: no sentence
                 what = (f"Magma output without matching gas (gas-poor output, possible sealing) from {_d(r.start)} "
-                        f"until {_d(r.end)} ({r.duration_days:.0f} days): magma output {r.magma_level:.2g} {munit} "
+                        f"to {_d(r.end - NS)} ({r.duration_days:.0f} days): magma output {r.magma_level:.2g} {munit} "
                         f"with SO2 {_num(r.gas_t_d)} t/d, "
                         + (f"below the {_num(r.predicted_t_d)} t/d the gas–magma relation predicts "
                            f"(band {_num(r.band_low_t_d)} to {_num(r.band_high_t_d)})"
@@ -177,9 +189,12 @@ def summarise(bundle) -> list[Sentence]:
         out.append(Sentence(f"level:{r.series_id}",
                             f"{name}: median {_num(r.level_window)} {r.display_unit} in the week, "
                             f"{_num(r.ratio, 2)}× the {r.periods.baseline_days:.0f}-day baseline of "
-                            f"{_num(r.level_baseline)} ({r.days_baseline} days with data) "
-                            f"(95% {_num(r.ratio_low, 2)} to {_num(r.ratio_high, 2)}), robust z = "
-                            f"{_num(r.robust_z, 2)}{tr}; coverage {r.coverage_window:.0%}."))
+                            f"{_num(r.level_baseline)} ({r.days_baseline} "
+                            f"{'samples' if getattr(r, 'per_sample', False) else 'days with data'}) "
+                            + (f"(95% {_num(r.ratio_low, 2)} to {_num(r.ratio_high, 2)}), " if np.isfinite(r.ratio_low)
+                               else "(no interval: too few values), ")
+                            + f"robust z = "
+                            f"{_num(r.robust_z, 2)}{tr}; {_coverage(bundle, r)}."))
     for rc in bundle.review_events:
         if rc.event_class in ("LP", "hybrid", "VT", "explosion") and (rc.n_window or rc.n_baseline):
             out.append(Sentence(f"rate:{rc.event_class}",
@@ -199,19 +214,22 @@ def summarise(bundle) -> list[Sentence]:
                      f"SO2 and {reg.step_share[1]:.0%} of the output variance)")
         out.append(lag_sentence("lag:record", bundle.xcorr, f"{span}, SO2 against magma output"))
     for s, e, _label, res in bundle.xcorr_intervals:
-        out.append(lag_sentence(f"lag:{_d(s)}", res, f"Coupled interval {_d(s)} to {_d(e)}"))
+        out.append(lag_sentence(f"lag:{_d(s)}", res, f"Coupled interval {_d(s)} to {_d(e - NS)}"))
     if bundle.budget is not None:
         o = bundle.budget.overall
         if np.isfinite(o.get("excess_factor", np.nan)):
             al = bundle.aligned.frame
             both = int((al["gas"].notna() & al["magma"].notna()).sum()) if "magma" in al else 0
+            both = int(o.get("days_both", both))  # the budget's own days (flagged scans excluded)
             out.append(Sentence(
                 "budget:overall",
-                f"Gas budget {_d(o['start'])} until {_d(o['end'])}: {_num(o['so2_mass_kg'] / 1e6)} ± "
-                f"{_num(o['so2_mass_sd_correlated_kg'] / 1e6, 2)} kt SO2 (1σ, errors fully correlated; lower bound, "
+                f"Gas budget {_d(o['start'])} to {_d(o['end'] - NS)}: {_num(o['so2_mass_kg'] / 1e6)} ± "
+                f"{_num(o['so2_mass_sd_total_kg'] / 1e6)} kt SO2 (1σ, scan errors and per-station systematic "
+                f"plume-speed/geometry terms; flagged scans excluded; lower bound, "
                 f"gas coverage {o['gas_coverage']:.0%}) and {o['dre_volume_m3'] / 1e6:.3g} Mm³ DRE erupted; on the "
-                f"{both} days with both, {o['ratio_kg_per_m3']:.3g} ± {o['ratio_sd_kg_per_m3']:.2g} (1σ) kg SO2 per "
-                f"m³ DRE; observed/petrological SO2 = {o['excess_factor']:.2f} (95% {o['excess_p2_5']:.2f} to "
+                f"{both} days with both, {o['ratio_kg_per_m3']:.3g} kg SO2 per m³ DRE (95% "
+                f"{o['ratio_p2_5_kg_per_m3']:.3g} to {o['ratio_p97_5_kg_per_m3']:.3g}); "
+                f"observed/petrological SO2 = {o['excess_factor']:.2f} (95% {o['excess_p2_5']:.2f} to "
                 f"{o['excess_p97_5']:.2f}): {o['finding'] or 'no finding'}."))
     for name, cp in bundle.changepoints.items():
         if per is None:

@@ -55,7 +55,7 @@ def _write_csv(cat: EventCatalog, path, *, unknown_rows: int = 0):
 def test_quakes_on_a_file_writes_csv_and_json(tmp_path):
     src = _write_csv(_catalog(), tmp_path / "events.csv", unknown_rows=3)
     out_csv, out_json = tmp_path / "metrics.csv", tmp_path / "summary.json"
-    res = runner.invoke(app, ["quakes", str(src), "--step", "7D", "--window-events", "200",
+    res = runner.invoke(app, ["quakes", str(src), "--step", "7D", "--window-events", "50",
                               "--csv", str(out_csv), "--json", str(out_json)])
     assert res.exit_code == 0, res.output
     assert "Seismicity, 800 events" in res.output

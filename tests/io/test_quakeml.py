@@ -103,7 +103,7 @@ def test_basic_file() -> None:
     assert df["time"].iloc[0] == pd.Timestamp("2024-03-01T04:00:05.25Z")
     assert df["event_class"].tolist() == ["explosion", "VT", "rockfall"]
     assert df["source_type"].tolist() == ["explosion", "earthquake", "landslide"]
-    # QuakeML depth is in metres (REFERENCES.md section 4.1, USGS example 20000.0 for 20 km)
+    # QuakeML depth is in metres (REFERENCES.md section 4.1: a published example gives 20000.0 for 20 km)
     assert df["depth_m"].tolist() == [500.0, 20000.0, 0.0]
     assert np.isnan(df["magnitude"].iloc[0])
     assert pd.isna(df["magnitude_type"].iloc[0])
@@ -124,7 +124,7 @@ def test_basic_file() -> None:
 
 
 def test_depth_20_km_agrees_with_fdsn_text() -> None:
-    # 20 km: <depth><value>20000.0</value> in QuakeML, 20 in FDSN Depth/km (REFERENCES.md 4.1, USGS example)
+    # 20 km: <depth><value>20000.0</value> in QuakeML, 20 in FDSN Depth/km (REFERENCES.md 4.1, a published example)
     q = read_quakeml(BASIC, ReadOptions()).records[0].data
     f = read_fdsn_text(DATA / "fdsn_text_basic.txt", ReadOptions()).records[0].data
     dq = q.loc[q["event_id"].str.endswith("qx2024aa01"), "depth_m"].item()

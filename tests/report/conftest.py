@@ -35,5 +35,23 @@ def demo_report(demo_bundle, tmp_path_factory):
     from degas.report import write_report
 
     out = tmp_path_factory.mktemp("report")
-    path = write_report(demo_bundle, out, appendix=out / "appendix")
+    # static figures are exported (and checked) once, by the CLI test of `degas report --appendix`
+    path = write_report(demo_bundle, out, appendix=out / "appendix", static=False)
     return path, out / "appendix"
+
+
+@pytest.fixture(scope="session")
+def demo_weekly_bundle(demo_archive):
+    from degas.pipeline import run_all
+    from degas.project import load_project
+
+    project = load_project(REPO / "demo_series" / "velmarra.toml")
+    return run_all(demo_archive, project, mode="weekly")
+
+
+@pytest.fixture(scope="session")
+def demo_weekly_report(demo_weekly_bundle, tmp_path_factory):
+    from degas.report import write_report
+
+    out = tmp_path_factory.mktemp("weekly")
+    return write_report(demo_weekly_bundle, out)

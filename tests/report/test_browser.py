@@ -81,7 +81,7 @@ def test_demo_report_renders_offline_in_chromium(demo_report, demo_bundle, tmp_p
     for fid, n_svg in out["figures"]:
         assert n_svg >= 1, f"figure {fid} drew no SVG"
     drawn = {fid for fid, n_svg in out["figures"] if n_svg >= 1}
-    assert {"fig-isobars", "fig-depth-time"} <= drawn  # the "Storage depth and gas source" section (issue 14)
+    assert {"fig-isobars", "fig-storage-depth-time", "fig-depth-time"} <= drawn  # issue 14 section + issue 13 plot
     c = out["cautions"]
     assert c["display"] != "none" and c["visibility"] == "visible" and c["height"] > 50 and c["top"] < 400
     assert "not a forecast" in c["text"] and "civil-protection" in c["text"]
@@ -91,4 +91,46 @@ def test_demo_report_renders_offline_in_chromium(demo_report, demo_bundle, tmp_p
     shot = tmp_path / "demo_report.png"
     subprocess.run([CHROMIUM, *FLAGS, f"--user-data-dir={user}", f"--screenshot={shot}", path.as_uri()],
                    capture_output=True, timeout=180)
+    assert shot.exists() and shot.stat().st_size > 10_000
+
+
+BRIEF_PROBE = """<script>
+window.addEventListener('load', () => setTimeout(() => {
+  const b = document.getElementById('brief'); const r = b.getBoundingClientRect();
+  const out = {top: r.top, bottom: r.bottom, right: r.right, width: window.innerWidth, height: window.innerHeight,
+               scroll_width: document.documentElement.scrollWidth, text: b.innerText,
+               rows: [...b.querySelectorAll('table.brief tbody tr')].map(tr => tr.cells[0].innerText),
+               sparks: b.querySelectorAll('svg.spark').length};
+  const p = document.createElement('pre'); p.id = '__probe'; p.textContent = JSON.stringify(out);
+  document.body.appendChild(p);
+}, 1500));
+</script>"""
+
+
+def test_weekly_brief_fits_one_1400x1000_screen(demo_weekly_report, tmp_path):
+    html = demo_weekly_report.read_text(encoding="utf-8")
+    probed = tmp_path / "brief.html"
+    probed.write_text(html.replace("<head>", "<head>" + BRIEF_PROBE, 1), encoding="utf-8")
+    flags = [f for f in FLAGS if not f.startswith("--window-size")] + ["--window-size=1400,1000",
+                                                                       "--hide-scrollbars"]
+    user = tmp_path / "profile"
+    dom = subprocess.run([CHROMIUM, *flags, f"--user-data-dir={user}", "--dump-dom", probed.as_uri()],
+                         capture_output=True, text=True, timeout=180)
+    parser = _Probe()
+    parser.feed(dom.stdout)
+    assert parser.text, f"the probe did not run; chromium said: {dom.stderr[-2000:]}"
+    out = json.loads(parser.text)
+    # a 1400x1000 window (its viewport is a little less high than the window: the browser's own frame)
+    assert out["width"] == 1400 and out["height"] <= 1000
+    assert 0 <= out["top"] and out["bottom"] <= out["height"], out  # the whole brief on the first screen
+    assert out["right"] <= 1400 and out["scroll_width"] <= 1400, out  # nothing sticks out sideways
+    assert "not official alert levels" in out["text"] and "not a forecast" in out["text"]
+    assert "Regime this week" in out["text"]
+    # ordered by what matters: gas first, then magma output, LP + hybrid, VT, amplitude, ratios
+    assert out["rows"][0].startswith("SO2 flux") and out["rows"][-1].startswith("CO2/SO2")
+    assert [r for r in out["rows"] if "events" in r][0].startswith("LP + hybrid")
+    assert out["sparks"] == len(out["rows"])
+    shot = tmp_path / "weekly_brief.png"
+    subprocess.run([CHROMIUM, *flags, f"--user-data-dir={user}", f"--screenshot={shot}",
+                    demo_weekly_report.as_uri()], capture_output=True, timeout=180)
     assert shot.exists() and shot.stat().st_size > 10_000

@@ -31,6 +31,19 @@ def test_report_weekly_with_appendix(demo_archive, tmp_path, capsys):
     (path,) = tmp_path.glob("degas-velmarra-week-20250303-20250309-run*.html")  # run date: today (no midnight race)
     assert f"report: {path}" in out
     assert (tmp_path / "app" / "weekly_review.csv").exists()
+    # static figures (issue 13): PNG and SVG per figure and one PDF of them where kaleido and Chromium exist,
+    # else one line saying what to install
+    from degas.report.appendix import static_export_problem
+
+    problem = static_export_problem()
+    if problem:
+        assert problem in out
+        return
+    static = tmp_path / "app" / "static"
+    assert (static / "fig-overview.png").read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
+    assert b"<svg" in (static / "fig-overview.svg").read_bytes()[:500]
+    pdf = (static / "figures.pdf").read_bytes()
+    assert pdf[:5] == b"%PDF-" and pdf.count(b"/Type /Page") - pdf.count(b"/Type /Pages") >= 2
 
 
 def test_report_errors_are_one_line(demo_archive, tmp_path, capsys):

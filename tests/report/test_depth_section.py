@@ -28,7 +28,7 @@ def test_report_has_the_section_with_numbers_and_cautions(demo_report):
     path, _ = demo_report
     html = path.read_text(encoding="utf-8")
     assert '<section id="depths"><h2>Storage depth and gas source</h2>' in html
-    assert 'id="fig-isobars"' in html and 'id="fig-depth-time"' in html
+    assert 'id="fig-isobars"' in html and 'id="fig-storage-depth-time"' in html
     assert re.search(r"Inclusions from phase 1 \(16\) record \d+–\d+ MPa", html)
     assert "below sea level" in html and "minimum entrapment pressures" in html and "shrinkage bubbles" in html
     assert "Devine et al. 1984" in html

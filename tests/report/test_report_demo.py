@@ -33,7 +33,8 @@ def test_summary_names_the_decoupled_pause_with_dates_and_numbers(demo_bundle, d
     assert abs(row["start"] - pd.Timestamp(truth["start"], tz="UTC")) <= 3 * DAY
     assert abs(row["end"] - pd.Timestamp(truth["end"], tz="UTC")) <= 3 * DAY
     text = s[key]
-    assert f"from {row['start']:%Y-%m-%d} until {row['end']:%Y-%m-%d}" in text
+    # one convention for end dates: the inclusive last day (issue 13 replaces "until <exclusive end>")
+    assert f"from {row['start']:%Y-%m-%d} to {row['end'] - pd.Timedelta(1, 'ns'):%Y-%m-%d}" in text
     assert f"SO2 {row['gas_t_d']:.0f} t/d" in text
     assert "decoupled degassing" in text
 
@@ -48,7 +49,8 @@ def test_summary_names_the_sealing_episode_with_dates_and_numbers(demo_bundle, d
     assert abs(row["start"] - pd.Timestamp(truth["start"], tz="UTC")) <= 21 * DAY
     assert abs(row["end"] - pd.Timestamp(truth["end"], tz="UTC")) <= 3 * DAY
     text = s[key]
-    assert f"from {row['start']:%Y-%m-%d} until {row['end']:%Y-%m-%d}" in text
+    # one convention for end dates: the inclusive last day (issue 13 replaces "until <exclusive end>")
+    assert f"from {row['start']:%Y-%m-%d} to {row['end'] - pd.Timedelta(1, 'ns'):%Y-%m-%d}" in text
     assert f"SO2 {row['gas_t_d']:.0f} t/d" in text and "possible sealing" in text
     lp = demo_bundle.changepoints["lp_hybrid_rate"].changes
     first = lp[lp["time"] >= row["start"] - 21 * DAY].iloc[0]
@@ -140,7 +142,9 @@ def test_every_number_in_the_other_sentences_comes_from_its_result(demo_bundle):
     text = s["budget:overall"]
     kt, sd = (float(x.replace(",", "")) for x in re.search(r"([\d,.]+) ± ([\d,.]+) kt SO2", text).groups())
     assert kt == pytest.approx(cum["so2_cum_kg"].iloc[-1] / 1e6, rel=1e-3)  # kg -> kt: ÷ 1e6
-    assert sd == pytest.approx(o["so2_mass_sd_correlated_kg"] / 1e6, rel=0.01) and "1σ" in text
+    # issue 13: the ± now carries the per-station systematic term (GUM: correlated within a station)
+    assert sd == pytest.approx(o["so2_mass_sd_total_kg"] / 1e6, rel=0.01) and "1σ" in text
+    assert o["so2_mass_sd_total_kg"] / o["so2_mass_kg"] > 0.1  # not the ±4 % of the scan errors alone
     mm3 = float(re.search(r"and ([\d.]+) Mm³ DRE", text).group(1))
     assert mm3 == pytest.approx(cum["dre_cum_m3"].iloc[-1] / 1e6, rel=1e-2)  # m³ -> Mm³: ÷ 1e6
     assert "lower bound" in text and f"gas coverage {o['gas_coverage']:.0%}" in text
