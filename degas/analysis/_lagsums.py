@@ -61,7 +61,14 @@ class LagSums:
         frames[:, :, self.L : self.L + self.B] = body.reshape(c, self.nb, self.B)
         return sfft.rfft(frames, axis=-1, workers=1)
 
-    def sums(self, U: np.ndarray, j: int) -> np.ndarray:
-        """Σ_t u_t·v_{j, t+k} for k = -L..L (c, 2L+1), from block spectra ``U`` of the rows."""
-        prod = np.einsum("cbf,bf->cf", U.conj(), self.V[j])
-        return sfft.irfft(prod, n=self.P, axis=-1, workers=1)[:, self._lag_index]
+    def sums(self, U: np.ndarray, *js: int) -> list[np.ndarray]:
+        """Σ_t u_t·v_{j, t+k} for k = -L..L (c, 2L+1) for each fixed series j, from block spectra ``U``
+        of the rows. ``U`` is conjugated in place (consumed)."""
+        np.conjugate(U, out=U)
+        tmp = np.empty_like(U)
+        out = []
+        for j in js:
+            np.multiply(U, self.V[j][None], out=tmp)
+            prod = tmp[:, 0] if self.nb == 1 else tmp.sum(axis=1)
+            out.append(sfft.irfft(prod, n=self.P, axis=-1, workers=1)[:, self._lag_index])
+        return out

@@ -153,8 +153,8 @@ class _MaskedPearson:
         self._plain: dict[bytes, tuple[np.ndarray, np.ndarray, np.ndarray]] = {}
 
     def _mask_sums(self, a: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
-        U = self.sums.spectra(a)
-        return self.sums.sums(U, 0), self.sums.sums(U, 1), self.sums.sums(U, 2)
+        N, Sm, Smm = self.sums.sums(self.sums.spectra(a), 0, 1, 2)
+        return N, Sm, Smm
 
     def pearson(self, G0: np.ndarray, gvalid: np.ndarray, W: np.ndarray | None = None):
         """r (rows, 2L+1) and pair counts N for rows ``G0`` (zero where ``gvalid`` is False)."""
@@ -170,9 +170,8 @@ class _MaskedPearson:
         else:
             Wa = W * a[None, :]
             N, Sm, Smm = self._mask_sums(Wa)
-        U = self.sums.spectra(Wa * Gc)
-        Sg, Sgm = self.sums.sums(U, 0), self.sums.sums(U, 1)
-        Sgg = self.sums.sums(self.sums.spectra(Wa * Gc * Gc), 0)
+        Sg, Sgm = self.sums.sums(self.sums.spectra(Wa * Gc), 0, 1)
+        (Sgg,) = self.sums.sums(self.sums.spectra(Wa * Gc * Gc), 0)
         N = np.rint(N)  # integer counts (weights are multiplicities); FFT round-off removed
         with np.errstate(invalid="ignore", divide="ignore"):
             num = N * Sgm - Sg * Sm

@@ -56,7 +56,8 @@ def test_lag_sums_against_direct_sums():
     rng = np.random.default_rng(3)
     n, L = 5000, 40
     u, v = rng.normal(size=(2, n)), rng.normal(size=n)
-    got = LagSums(v[None, :], L).sums(LagSums(v[None, :], L).spectra(u), 0)
+    ls = LagSums(v[None, :], L)
+    (got,) = ls.sums(ls.spectra(u), 0)
     for i, k in enumerate(range(-L, L + 1)):
         lo, hi = max(0, -k), min(n, n - k)
         want = u[:, lo:hi] @ v[lo + k : hi + k]
