@@ -39,13 +39,20 @@ from scipy.signal import lfilter  # noqa: E402
 SIZES = (10_000, 30_000, 100_000, 300_000, 525_600)
 
 
-def measure(fn):
-    """(result, CPU seconds of this process, traced peak MiB). CPU time, not wall time: the machine is
-    shared by several developers and every path here runs on one thread."""
-    tracemalloc.start()
+def measure(fn, mem_fn=None):
+    """(result, CPU seconds of this process, traced peak MiB).
+
+    CPU time, not wall time: the machine is shared by several developers and every path here runs on
+    one thread. Tracing slows numba code and numpy allocation, so the time comes from an untraced run
+    and the peak from a second, traced run of ``mem_fn`` (default ``fn``; NaN when ``mem_fn`` is False).
+    """
     t0 = time.process_time()
     out = fn()
     dt = time.process_time() - t0
+    if mem_fn is False:
+        return out, dt, math.nan
+    tracemalloc.start()
+    (mem_fn or fn)()
     peak = tracemalloc.get_traced_memory()[1]
     tracemalloc.stop()
     return out, dt, peak / 2**20
@@ -95,7 +102,7 @@ def detection(quick: bool) -> None:
             ts.append(t)
             line = f"  n={n:>7}: geom {t:7.3f} s, {mem:6.1f} MiB"
             if n <= 100_000:
-                (bk2, cost2), t2, _ = measure(lambda x=x, beta=beta, seg=seg: pelt_l2(x, beta, 5, seg))
+                (bk2, cost2), t2, _ = measure(lambda x=x, beta=beta, seg=seg: pelt_l2(x, beta, 5, seg), False)
                 same = math.isclose(cost, cost2, rel_tol=1e-9)
                 line += f" | today's PELT {t2:7.2f} s, ratio {t2 / t:6.1f}x, same cost {same}"
             print(line, flush=True)
@@ -104,9 +111,10 @@ def detection(quick: bool) -> None:
         x = steps(n, 5, d, seed=1)
         x = x if d > 1 else x[:, 0]
         beta = (d + 2) * math.log(n)
-        (bk, cost), t, _ = measure(lambda x=x, beta=beta, seg=seg: geom_l2(x, beta, 5, seg))
+        (bk, cost), t, _ = measure(lambda x=x, beta=beta, seg=seg: geom_l2(x, beta, 5, seg), False)
         xr = x if d > 1 else x[:, None]
-        rb, tr, _ = measure(lambda xr=xr, beta=beta: rpt.Pelt(model="l2", min_size=5, jump=1).fit(xr).predict(pen=beta))
+        rb, tr, _ = measure(lambda xr=xr, beta=beta: rpt.Pelt(model="l2", min_size=5, jump=1).fit(xr).predict(pen=beta),
+                            False)
         cr = segmentation_cost(x, rb, beta, seg)
         note = "" if not seg else " (ruptures has no segment-length term: penalty per change only)"
         print(f"  n=2000: geom {t:.4f} s, ruptures Pelt(l2) {tr:.2f} s, ratio {tr / t:.0f}x; "
@@ -123,13 +131,16 @@ def surrogates(quick: bool) -> None:
         n_s = 1000 if n == 525_600 else 200
         g0, m0 = red_pair(n, False, seed=n)
         g1, m1 = red_pair(n, True, seed=n)
-        _, t0, mem0 = measure(lambda g0=g0, m0=m0, n_s=n_s: surrogate_test(g0, m0, 60, n_surrogates=n_s, seed=1))
-        _, t1, mem1 = measure(lambda g1=g1, m1=m1, n_s=n_s: surrogate_test(g1, m1, 60, n_surrogates=n_s, seed=1))
+        _, t0, mem0 = measure(lambda g0=g0, m0=m0, n_s=n_s: surrogate_test(g0, m0, 60, n_surrogates=n_s, seed=1),
+                              lambda g0=g0, m0=m0: surrogate_test(g0, m0, 60, n_surrogates=100, seed=1))
+        _, t1, mem1 = measure(lambda g1=g1, m1=m1, n_s=n_s: surrogate_test(g1, m1, 60, n_surrogates=n_s, seed=1),
+                              lambda g1=g1, m1=m1: surrogate_test(g1, m1, 60, n_surrogates=100, seed=1))
         ns.append(n)
         tg.append(t1 / n_s)
         print(f"  n={n:>7}, {n_s} surrogates: gaps {t1:7.2f} s {mem1:6.0f} MiB | gap-free {t0:7.2f} s "
               f"{mem0:6.0f} MiB | ratio gaps/gap-free {t1 / t0:.2f}", flush=True)
-    print(f"  fitted exponent of the gapped time per surrogate: b = {exponent(ns, tg):.2f}")
+    print(f"  fitted exponent of the gapped time per surrogate: b = {exponent(ns, tg):.2f} "
+          "(peak memory from a run with 100 surrogates: it is per chunk, not per surrogate)")
 
 
 def rolling(quick: bool) -> None:
@@ -137,14 +148,15 @@ def rolling(quick: bool) -> None:
 
     print("\n[rolling coupling, window 90 D, step 7 D, max lag 15 D, 200 surrogates per window, 10-min bins]")
     ns, ts = [], []
-    for n in (30_000, 60_000) if quick else (30_000, 60_000, 120_000):
+    for n in (20_000, 40_000) if quick else (20_000, 40_000, 80_000):
         idx = pd.date_range("2015-01-01", periods=n, freq="10min", tz="UTC")
         g, m = red_pair(n, True, seed=n)
         res, t, mem = measure(lambda g=g, m=m, idx=idx: rolling_coupling(pd.Series(g, idx), pd.Series(m, idx),
-                                                                        window="90D", step="7D"))
+                                                                        window="90D", step="7D"),
+                              None if n == 20_000 else False)
         g0, m0 = red_pair(n, False, seed=n)
         _, t0, _ = measure(lambda g0=g0, m0=m0, idx=idx: rolling_coupling(pd.Series(g0, idx), pd.Series(m0, idx),
-                                                                          window="90D", step="7D"))
+                                                                          window="90D", step="7D"), False)
         ns.append(n)
         ts.append(t)
         print(f"  n={n:>7}: gaps {t:7.2f} s, {mem:6.0f} MiB, {len(res.windows)} windows "
