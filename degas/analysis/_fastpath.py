@@ -551,6 +551,12 @@ def pelt_l2(x: np.ndarray, beta: float, min_size: int = 1, seg_coef: float = 0.0
     (bkps, cost) as :func:`fpop_l2`. Worst case O(n²) time when there are few changes
     (PELT prunes little then); memory O(n·d).
     """
+    return _solve_multi(x, beta, min_size, seg_coef, lambda z, b, m, s, K: _pelt_core(z, b, m, s, K)[1])
+
+
+def _solve_multi(x, beta: float, min_size: int, seg_coef: float, core) -> tuple[list[int], float]:
+    """Shared steps of the (n, d) solvers: checks, standardisation, ``core(z, β, m, s, K) -> last``,
+    backtracking and the cost on the original scale."""
     x = np.asarray(x, dtype="float64")
     if x.ndim == 1:
         x = x[:, None]
@@ -561,7 +567,7 @@ def pelt_l2(x: np.ndarray, beta: float, min_size: int = 1, seg_coef: float = 0.0
     z, scale = _standardise(x)
     s2 = scale**2
     K = float(seg_coef) * math.log(n) / s2 if seg_coef else 0.0
-    _, last, _ = _pelt_core(z, float(beta) / s2, m, float(seg_coef) / s2, K)
+    last = core(z, float(beta) / s2, m, float(seg_coef) / s2, K)
     bkps = _backtrack(last, n)
     return bkps, segmentation_cost(x, bkps, beta, seg_coef)
 
@@ -587,19 +593,9 @@ def geom_l2(x: np.ndarray, beta: float, min_size: int = 1, seg_coef: float = 0.0
     -------
     (bkps, cost) as :func:`fpop_l2`. Memory O(n·d).
     """
-    x = np.asarray(x, dtype="float64")
-    if x.ndim == 1:
-        x = x[:, None]
-    x = np.ascontiguousarray(x)
-    n = x.shape[0]
-    m = max(int(min_size), 1)
-    _check(n, m, beta)
-    z, scale = _standardise(x)
-    s2 = scale**2
-    K = float(seg_coef) * math.log(n) / s2 if seg_coef else 0.0
-    _, last, _ = _geom_core(z, float(beta) / s2, m, float(seg_coef) / s2, K, max(int(every), 1), int(seed))
-    bkps = _backtrack(last, n)
-    return bkps, segmentation_cost(x, bkps, beta, seg_coef)
+    every, seed = max(int(every), 1), int(seed)
+    return _solve_multi(x, beta, min_size, seg_coef,
+                        lambda z, b, m, s, K: _geom_core(z, b, m, s, K, every, seed)[1])
 
 
 def _check(n: int, m: int, beta: float) -> None:

@@ -8,7 +8,8 @@ fitted scaling exponent (least squares of log time on log n), and the ratio agai
    :func:`degas.analysis._fastpath.pelt_l2` (same optimal cost; up to 10^5 points) and ruptures'
    ``Pelt(model="l2")`` (pure Python; at 2,000 points);
 2. the surrogate test (±60 lags, 1,000 phase surrogates at 525,600 points, fewer below) with
-   gaps (15 % missing scans plus six 4,000-bin outages in gas, 5 % missing magma) against the same
+   gaps (15 % missing scans plus one 4,000-bin outage per 100,000 bins in gas, 5 % missing
+   magma) against the same
    test without gaps;
 3. rolling coupling with gaps (window 90 days, step 7 days, 200 surrogates per window, 10-minute
    bins) against its gap-free run at the sizes where both are timed;
@@ -76,8 +77,9 @@ def red_pair(n: int, gaps: bool, seed: int = 0) -> tuple[np.ndarray, np.ndarray]
     g, m = x[5:].copy(), x[:n] + 0.5 * rng.standard_normal(n)
     if gaps:
         miss = rng.random(n) < 0.15
-        for s in rng.integers(0, n - 5000, size=6):
-            miss[s : s + 4000] = True
+        length = min(4000, n // 20)  # outages: one per 100,000 bins, at most 4,000 bins (~4 weeks) each
+        for s in rng.integers(0, n - length, size=max(1, n // 100_000)):
+            miss[s : s + length] = True
         g[miss] = np.nan
         m[rng.random(n) < 0.05] = np.nan
     return g, m
