@@ -272,10 +272,16 @@ def _pearson_rows(G: np.ndarray, gvalid: np.ndarray, basis: _LagBasis, W: np.nda
     """
     L = basis.L
     G0 = np.where(gvalid[None, :], G, 0.0)
-    if W is None and basis.complete and gvalid.all():
+    if W is None and basis.complete and gvalid.all() and _wrap_is_cheap(basis):
         N = np.broadcast_to((basis.n - np.abs(np.arange(-L, L + 1))).astype(float), (G.shape[0], 2 * L + 1))
         return _FftPair(basis.m0, L).rows(G0), np.asarray(N)
     return basis.masked().pearson(G0, gvalid, W)
+
+
+def _wrap_is_cheap(basis: _LagBasis) -> bool:
+    """True when :class:`_FftPair`'s O(L²) wrap correction per row is cheap next to an FFT (L² ≤ 8·n);
+    longer lag ranges (e.g. ±15 days of 10-minute bins) take the block-FFT lag sums even without gaps."""
+    return basis.L * basis.L <= 8 * basis.n
 
 
 def _pearson_rows_lagmatrix(G: np.ndarray, gvalid: np.ndarray, basis: _LagBasis, W: np.ndarray | None = None):
@@ -526,7 +532,7 @@ def surrogate_max_stat(
     gvalid = np.isfinite(g)
     out = np.empty(n_surrogates)
     i = 0
-    if gvalid.all() and basis.complete:
+    if gvalid.all() and basis.complete and _wrap_is_cheap(basis):
         fft = _FftPair(basis.m0, basis.L)
         gz = (g - g.mean()) / g.std()
         if method == "phase":
@@ -543,8 +549,8 @@ def surrogate_max_stat(
                 i += S.shape[0]
         return out
     if method == "phase" and normalisation == "pearson":
-        # gaps: surrogates on the full grid from the gap-corrected spectrum, the gap mask re-imposed,
-        # r by masked FFT lag sums (O(n log n) time, O(n) memory per surrogate)
+        # gaps (or a long lag range): surrogates on the full grid from the gap-corrected spectrum, the gap
+        # mask re-imposed, r by masked FFT lag sums (O(n log n) time, O(n) memory per surrogate)
         gz = (g - np.nanmean(g)) / np.nanstd(g)
         amp = gapped_amplitudes(gz)
         chunk_size = chunk_size or max(1, int(2_000_000 // g.size))
