@@ -7,8 +7,8 @@ with a zero-filled series or a mask (the gapped-data correlogram of Parzen 1963,
 the overlap count per lag), so it can be computed by FFT instead of an n × (2L+1) lag matrix.
 
 Overlap-add in the frequency domain: the time axis is cut into blocks of B samples; block b of u,
-placed at offset L in a zero frame of P ≥ B + 2L samples, is correlated circularly with the
-stretch ``v[bB - L, bB + B + L)`` of v. For |k| ≤ L no product wraps round the frame, and the
+at the start of a zero frame of P ≥ B + 2L samples, is correlated circularly with the stretch
+``v[bB - L, bB + B + L)`` of v (lag k at index k + L). For |k| ≤ L no product wraps round the frame, and the
 correlation is linear in u, so the sum over blocks is one inverse FFT of
 ``Σ_b conj(U_b)·V_b``. Cost per row: forward FFTs of total length ≈ n·P/B (O(n log P)), n complex
 products per fixed series, one inverse FFT of length P; memory O(n) per row, independent of L.
@@ -49,17 +49,19 @@ class LagSums:
         frames = np.zeros((self.q, self.nb, P))
         frames[:, :, : self.B + 2 * L] = pad[:, idx]
         self.V = sfft.rfft(frames, axis=-1, workers=1)  # (q, nb, F)
-        self._lag_index = np.arange(-L, L + 1) % P
+        # each block of u sits at the start of its frame, so lag k lands at index k + L (no wrap)
+        self._lag_index = np.arange(0, 2 * L + 1)
 
     def spectra(self, rows: np.ndarray) -> np.ndarray:
-        """Block spectra (c, nb, F) of rows (c, n), each block at offset L in its frame."""
+        """Block spectra (c, nb, F) of rows (c, n), each block zero-padded to the frame length P."""
         rows = np.atleast_2d(rows)
         c = rows.shape[0]
-        body = np.zeros((c, self.nb * self.B))
-        body[:, : self.n] = rows
-        frames = np.zeros((c, self.nb, self.P))
-        frames[:, :, self.L : self.L + self.B] = body.reshape(c, self.nb, self.B)
-        return sfft.rfft(frames, axis=-1, workers=1)
+        if self.nb * self.B == self.n:
+            body = rows
+        else:
+            body = np.zeros((c, self.nb * self.B))
+            body[:, : self.n] = rows
+        return sfft.rfft(body.reshape(c, self.nb, self.B), n=self.P, axis=-1, workers=1)
 
     def sums(self, U: np.ndarray, *js: int) -> list[np.ndarray]:
         """Σ_t u_t·v_{j, t+k} for k = -L..L (c, 2L+1) for each fixed series j, from block spectra ``U``
