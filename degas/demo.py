@@ -1245,7 +1245,7 @@ def write_demo(out_dir: Path, seed: int = DEFAULT_SEED) -> list[Path]:
 
 
 def write_large(out_dir: Path, *, years: int = 10, step: str = "10min", n_events: int = 1_000_000,
-                seed: int = 7) -> list[Path]:
+                seed: int = 7, gaps: bool = False) -> list[Path]:
     """Benchmark-size files (not committed): two SO2-flux stations, a daily extrusion rate and a large catalogue.
 
     Vectorised; 10 years at 10 minutes and a million events take well under a minute.
@@ -1257,6 +1257,9 @@ def write_large(out_dir: Path, *, years: int = 10, step: str = "10min", n_events
     step : sampling step of the flux series (pandas frequency, e.g. "10min").
     n_events : number of catalogue events.
     seed : random seed.
+    gaps : leave realistic gaps in the SO2 series (own random streams; the values of the scans kept
+        are those of the gap-free files): 15 % of the scans missing at random and eight outages of
+        one to six weeks per station.
 
     Returns
     -------
@@ -1282,6 +1285,13 @@ def write_large(out_dir: Path, *, years: int = 10, step: str = "10min", n_events
         flag = np.where(r.random(n) < 0.9, "good", "cloud")
         df = pd.DataFrame({"time": iso, "so2_flux_t_d": np.round(flux, 1), "uncertainty_t_d": np.round(0.25 * flux, 1),
                            "flag": flag})
+        if gaps:
+            rg = _rng(seed, 220 + k)
+            keep = rg.random(n) >= 0.15
+            per_day = int(pd.Timedelta("1D") // pd.Timedelta(step))
+            for a, weeks in zip(rg.integers(0, n, size=8), rg.integers(1, 7, size=8), strict=True):
+                keep[a : a + weeks * 7 * per_day] = False
+            df = df[keep]
         p = out / f"large_so2_flux_{station}.csv"
         df.to_csv(p, index=False, lineterminator="\n")
         paths.append(p)
@@ -1426,9 +1436,10 @@ def main(argv: Sequence[str] | None = None) -> int:
     parser.add_argument("out_dir", type=Path)
     parser.add_argument("--large", action="store_true", help="write the benchmark-size files instead")
     parser.add_argument("--seed", type=int, default=None)
+    parser.add_argument("--gaps", action="store_true", help="with --large: leave realistic gaps in the SO2 series")
     args = parser.parse_args(argv)
     if args.large:
-        paths = write_large(args.out_dir, seed=7 if args.seed is None else args.seed)
+        paths = write_large(args.out_dir, seed=7 if args.seed is None else args.seed, gaps=args.gaps)
     else:
         paths = write_demo(args.out_dir, seed=DEFAULT_SEED if args.seed is None else args.seed)
     for p in paths:

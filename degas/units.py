@@ -15,15 +15,30 @@ from __future__ import annotations
 import hashlib
 import re
 from functools import lru_cache
-
-import pint
+from typing import TYPE_CHECKING
 
 from degas.errors import UnitError
 
-UREG = pint.UnitRegistry(autoconvert_offset_to_baseunit=True)
-UREG.define("million_cubic_metre = 1e6 * meter ** 3")
-UREG.define("kilotonne = 1e6 * kilogram = kt_")
-UREG.define("megatonne = 1e9 * kilogram")
+if TYPE_CHECKING:
+    import pint
+
+
+@lru_cache(maxsize=1)
+def _registry() -> pint.UnitRegistry:
+    """The unit registry, built on first use (pint and its registry take ~0.2 s to load)."""
+    import pint
+
+    reg = pint.UnitRegistry(autoconvert_offset_to_baseunit=True)
+    reg.define("million_cubic_metre = 1e6 * meter ** 3")
+    reg.define("kilotonne = 1e6 * kilogram = kt_")
+    reg.define("megatonne = 1e9 * kilogram")
+    return reg
+
+
+def __getattr__(name: str):
+    if name == "UREG":  # the registry under its old module-level name, loaded lazily
+        return _registry()
+    raise AttributeError(f"module {__name__!r} has no attribute {name!r}")
 
 #: Exact conversion factor, kg/s -> t/d (1 t = 1000 kg, 1 d = 86 400 s; BIPM SI Brochure, 9th ed. 2019, table 8).
 KG_S_TO_T_D = 86.4
@@ -75,20 +90,22 @@ def parse_unit(text: str) -> pint.Unit:
     """Parse a unit spelling into a pint unit; raise UnitError listing accepted spellings."""
     raw = (text or "").strip()
     if raw.lower() in {"", "-", "none", "mol/mol", "molar", "mol mol-1", "ratio", "dimensionless", "1"}:
-        return UREG.dimensionless
+        return _registry().dimensionless
     if raw == "%":
-        return UREG.percent
+        return _registry().percent
     s = _normalise(raw)
     if "__ambiguous_ton__" in s:
         raise UnitError(
             f"unit {raw!r} is ambiguous (short, long or metric ton?); write t (tonne) or Mg, e.g. 't/d'"
         )
     try:
-        q = UREG.parse_expression(s)
+        q = _registry().parse_expression(s)
     except Exception:  # pint raises several unrelated exception types here
         raise UnitError(f"unknown unit {raw!r}; accepted spellings include {_accepted_text()}") from None
+    import pint
+
     if not isinstance(q, pint.Quantity):
-        return UREG.dimensionless
+        return _registry().dimensionless
     if q.magnitude != 1:
         return _scaled_unit(q, raw)
     return q.units
@@ -96,9 +113,9 @@ def parse_unit(text: str) -> pint.Unit:
 
 def _scaled_unit(q: pint.Quantity, raw: str) -> pint.Unit:
     name = "scaled_" + hashlib.sha1(raw.encode()).hexdigest()[:12]
-    if name not in UREG:
-        UREG.define(f"{name} = {q.magnitude} * {q.units}")
-    return UREG.Unit(name)
+    if name not in _registry():
+        _registry().define(f"{name} = {q.magnitude} * {q.units}")
+    return _registry().Unit(name)
 
 
 def _accepted_text() -> str:
@@ -110,11 +127,13 @@ def conversion_factor(from_unit: str, to_unit: str) -> float:
 
     Raises UnitError when the dimensions differ (e.g. a volume given for a flux).
     """
+    from pint import DimensionalityError
+
     src = parse_unit(from_unit)
     dst = parse_unit(to_unit)
     try:
-        return float(UREG.Quantity(1.0, src).to(dst).magnitude)
-    except pint.DimensionalityError:
+        return float(_registry().Quantity(1.0, src).to(dst).magnitude)
+    except DimensionalityError:
         raise UnitError(
             f"unit {from_unit!r} ({_dim(src)}) cannot be converted to {to_unit!r} ({_dim(dst)})"
         ) from None
@@ -123,7 +142,7 @@ def conversion_factor(from_unit: str, to_unit: str) -> float:
 
 
 def _dim(u: pint.Unit) -> str:
-    d = str(UREG.Quantity(1.0, u).dimensionality)
+    d = str(_registry().Quantity(1.0, u).dimensionality)
     return "dimensionless" if d == "dimensionless" else d
 
 

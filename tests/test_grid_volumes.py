@@ -83,3 +83,45 @@ def test_robust_z_scale_matches_scipy():
     # 1.4826 ≈ 1/Φ⁻¹(3/4), the normal-consistency constant that scipy applies with scale="normal"
     assert MAD_TO_SIGMA * median_abs_deviation(x) == pytest.approx(median_abs_deviation(x, scale="normal"),
                                                                    rel=1e-4)
+
+
+def _eruptive_fraction_loop(df, g0, w, n, stop):
+    """The per-bin loop that eruptive_fraction used before it was vectorised (the reference)."""
+    erupt, known = np.zeros(n), np.zeros(n)
+    for s, e, state in zip(df["start"], df["end"], df["state"], strict=True):
+        s_ns, e_ns = s.value, stop if pd.isna(e) else e.value
+        if state == "unknown" or e_ns <= s_ns:
+            continue
+        for b in range(max((s_ns - g0) // w, 0), min((e_ns - 1 - g0) // w, n - 1) + 1):
+            lo, hi = max(s_ns, g0 + b * w), min(e_ns, g0 + (b + 1) * w)
+            if hi > lo:
+                known[b] += (hi - lo) / w
+                if state == "eruptive":
+                    erupt[b] += (hi - lo) / w
+    known = np.minimum(known, 1.0)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        return np.where(known > 0, np.minimum(erupt, known) / known, np.nan), known
+
+
+@pytest.mark.parametrize("seed", [0, 1])
+def test_vectorised_eruptive_fraction_equals_the_loop_on_a_long_chronology(seed):
+    rng = np.random.default_rng(seed)
+    k = 527
+    origin = pd.Timestamp("1800-01-01", tz="UTC")
+    starts = origin + pd.to_timedelta(np.sort(rng.integers(0, 200 * 365 * 86400, size=k)), unit="s")
+    lengths = pd.to_timedelta(rng.exponential(60 * 86400, size=k).astype("int64"), unit="s")
+    ends = pd.Series(starts + lengths)
+    ends[rng.random(k) < 0.01] = pd.NaT  # open phases, overlaps and zero-length rows included
+    df = pd.DataFrame({"start": starts, "end": ends,
+                       "state": pd.Series(rng.choice(["eruptive", "pause", "unknown"], size=k), dtype="string"),
+                       "style": pd.Series(["unknown"] * k, dtype="string"),
+                       "note": pd.Series([pd.NA] * k, dtype="string")})
+    ch = Chronology(df, SeriesMeta("chronology", "eruptive_state"))
+    for step in ("1D", "7h"):
+        g = make_grid(origin - pd.Timedelta("3D"), starts[-1] + pd.Timedelta("400D"), step)
+        ef = eruptive_fraction(ch, grid=g)
+        end = g.origin.value + g.n * g.step.value
+        frac, known = _eruptive_fraction_loop(df, g.origin.value, g.step.value, g.n, end)
+        np.testing.assert_allclose(ef["known"].to_numpy(), known, rtol=0, atol=1e-9)
+        np.testing.assert_array_equal(np.isnan(ef["eruptive"].to_numpy()), np.isnan(frac))
+        np.testing.assert_allclose(ef["eruptive"].to_numpy(), frac, rtol=0, atol=1e-9, equal_nan=True)

@@ -36,8 +36,9 @@ joint detection) and returns a frozen :class:`ChangePointResult`. The steps, in 
    multiplied by σ². The default bic3 + auto was chosen on the TCPD benchmark (one global
    setting, see tests/benchmarks/bench_tcpd.py), where bic + mad_diff under-performs.
 5. **Search** by name (:data:`METHODS`): ``"exact"`` (default) is our exact solver of the
-   penalised l2 cost (:mod:`degas.analysis._fastpath`: functional pruning for one series, PELT
-   with correct min-size pruning for several series or MBIC); ``"pelt"``, ``"binseg"``,
+   penalised l2 cost (:mod:`degas.analysis._fastpath`: functional pruning for one series,
+   geometric functional pruning (GeomFPOP, Pishchagina, Rigaill & Runge 2024) with PELT's
+   min-size-correct rule for several series or MBIC); ``"pelt"``, ``"binseg"``,
    ``"window"``, ``"dynp"`` and ``"kernel"`` call ruptures (Truong, Oudre & Vayatis 2020) with
    the l2 cost (``kernel`` = ``KernelCPD(kernel="linear")``, the same optimum as l2).
    ``min_segment`` is a duration converted to bins.
@@ -218,11 +219,11 @@ def _default_transform(kind: str, quantity: str) -> str:
 
 
 def _search_exact(z: np.ndarray, beta: float, m: int, seg_coef: float) -> list[int]:
-    from degas.analysis._fastpath import fpop_l2, pelt_l2
+    from degas.analysis._fastpath import fpop_l2, geom_l2
 
     if z.shape[1] == 1 and seg_coef == 0.0:
         return fpop_l2(z[:, 0], beta, m)[0]
-    return pelt_l2(z, beta, m, seg_coef)[0]
+    return geom_l2(z, beta, m, seg_coef)[0]
 
 
 def _ruptures_call(fn: Callable[[], list[int]], name: str) -> list[int]:

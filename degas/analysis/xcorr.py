@@ -30,12 +30,14 @@ any relation to magma output; the statistic is T = max over |k| <= L of |r(k)|, 
 accounts for the search over lags: p = (1 + #{T_surr >= T_obs}) / (N_surr + 1) (the usual
 surrogate/Monte Carlo p-value; REFERENCES §5.4 marks the formula as from memory).
 
-Missing values: the default "pearson" statistic skips incomplete pairs at each lag. For the
-surrogate test, missing gas bins are filled with the gas mean only to build the surrogates and are
-masked again afterwards, so every surrogate has exactly the observed pair structure; the filled
-bins slightly distort the surrogates' spectrum (a note reports the share of gaps). Complete data
-use an FFT route (no lag matrices); data with gaps use lag matrices of n × (2L+1) values, so very
-long series with gaps (and the bootstrap, which always uses them) need memory of that order.
+Missing values: the default "pearson" statistic skips incomplete pairs at each lag. Its per-lag
+pair count and sums are correlations of the zero-filled series and their masks, computed by block
+FFTs and normalised by the overlap count at each lag (:mod:`degas.analysis._lagsums`; O(n log n)
+time, O(n) memory, for the observed series, the surrogates and the bootstrap alike). For the
+surrogate test with gaps, phase surrogates are made on the full grid from the gap-corrected
+spectrum of the gas series (gapped correlogram, Parzen 1963) and the gas gap mask is re-imposed,
+so every surrogate has exactly the observed pair structure and the series' autocorrelation
+(filling the gaps with the mean would whiten the surrogates and inflate the false-alarm rate).
 Prewhitening is fitted on the longest gap-free stretch of magma output; the filter spreads each
 gap over p further bins.
 
@@ -53,7 +55,8 @@ import pandas as pd
 import scipy.fft as sfft
 from numpy.lib.stride_tricks import sliding_window_view
 
-from degas.analysis.surrogates import SURROGATE_METHODS, iter_phase_spectra, iter_surrogates
+from degas.analysis._lagsums import LagSums
+from degas.analysis.surrogates import SURROGATE_METHODS, gapped_amplitudes, iter_phase_spectra, iter_surrogates
 from degas.errors import DegasError, NotEnoughDataError
 from degas.grid import contiguous_runs
 
@@ -121,11 +124,61 @@ class _LagBasis:
         pad[self.L : self.L + self.n] = v
         return np.ascontiguousarray(sliding_window_view(pad, 2 * self.L + 1)[: self.n])
 
+    def masked(self) -> _MaskedPearson:
+        """The block-FFT lag sums of this magma series (built once)."""
+        if "_masked" not in self._cache:
+            self._cache["_masked"] = _MaskedPearson(self.m0, self.valid, self.L)
+        return self._cache["_masked"]
+
     def matrix(self, name: str) -> np.ndarray:
         if name not in self._cache:
             src = {"m": self.m0, "m2": self.m0**2, "mask": self.valid.astype(float)}[name]
             self._cache[name] = self._lagged(src)
         return self._cache[name]
+
+
+class _MaskedPearson:
+    """Pairwise-complete Pearson r(k) with gaps from masked FFT lag sums (Parzen 1963 gapped correlogram).
+
+    With a = gas mask (times bootstrap weights), b = magma mask and zero-filled, centred values, the
+    pair count and the five sums per lag are correlations of (a, a·g, a·g²) with (b, m, m²); the
+    magma side is transformed once (:class:`degas.analysis._lagsums.LagSums`).
+    """
+
+    def __init__(self, m0: np.ndarray, mvalid: np.ndarray, L: int):
+        self.L = L
+        self.mc = float(m0[mvalid].mean()) if mvalid.any() else 0.0
+        mz = np.where(mvalid, m0 - self.mc, 0.0)
+        self.sums = LagSums(np.vstack([mvalid.astype(float), mz, mz * mz]), L)
+        self._plain: dict[bytes, tuple[np.ndarray, np.ndarray, np.ndarray]] = {}
+
+    def _mask_sums(self, a: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+        N, Sm, Smm = self.sums.sums(self.sums.spectra(a), 0, 1, 2)
+        return N, Sm, Smm
+
+    def pearson(self, G0: np.ndarray, gvalid: np.ndarray, W: np.ndarray | None = None):
+        """r (rows, 2L+1) and pair counts N for rows ``G0`` (zero where ``gvalid`` is False)."""
+        a = gvalid.astype(float)
+        gc = G0.sum(axis=1, keepdims=True) / max(a.sum(), 1.0)  # centring: conditioning only
+        Gc = np.where(gvalid[None, :], G0 - gc, 0.0)
+        if W is None:
+            key = np.packbits(gvalid).tobytes()
+            if key not in self._plain:
+                self._plain = {key: self._mask_sums(a[None, :])}
+            N, Sm, Smm = self._plain[key]
+            Wa = a[None, :]
+        else:
+            Wa = W * a[None, :]
+            N, Sm, Smm = self._mask_sums(Wa)
+        Sg, Sgm = self.sums.sums(self.sums.spectra(Wa * Gc), 0, 1)
+        (Sgg,) = self.sums.sums(self.sums.spectra(Wa * Gc * Gc), 0)
+        N = np.rint(N)  # integer counts (weights are multiplicities); FFT round-off removed
+        with np.errstate(invalid="ignore", divide="ignore"):
+            num = N * Sgm - Sg * Sm
+            den = (N * Sgg - Sg**2) * (N * Smm - Sm**2)
+            r = num / np.sqrt(np.where(den > 0, den, np.nan))
+        r = np.where(N >= MIN_PAIRS, r, np.nan)
+        return np.clip(r, -1.0, 1.0), np.broadcast_to(N, r.shape).copy()
 
 
 def _edge_sums(rows: np.ndarray, L: int, total: np.ndarray | float | None = None) -> np.ndarray:
@@ -213,24 +266,37 @@ class _FftPair:
 def _pearson_rows(G: np.ndarray, gvalid: np.ndarray, basis: _LagBasis, W: np.ndarray | None = None):
     """Pairwise-complete Pearson r(k) per row of ``G`` against the magma basis, and the pair counts.
 
-    ``gvalid`` (n,) masks missing gas bins; ``W`` (rows, n) are optional bootstrap weights.
+    ``gvalid`` (n,) masks missing gas bins; ``W`` (rows, n) are optional bootstrap weights. Complete
+    data go through :class:`_FftPair`; gaps and weights through the masked block-FFT lag sums
+    (:mod:`degas.analysis._lagsums`), O(n log n) time and O(n) memory per row.
     """
     L = basis.L
     G0 = np.where(gvalid[None, :], G, 0.0)
-    if W is None and basis.complete and gvalid.all():
+    if W is None and basis.complete and gvalid.all() and _wrap_is_cheap(basis):
         N = np.broadcast_to((basis.n - np.abs(np.arange(-L, L + 1))).astype(float), (G.shape[0], 2 * L + 1))
         return _FftPair(basis.m0, L).rows(G0), np.asarray(N)
-    else:
-        Wg = gvalid[None, :].astype(float) if W is None else W * gvalid[None, :]
-        Wg = np.broadcast_to(Wg, G.shape)
-        Lmask, Lm, Lm2 = basis.matrix("mask"), basis.matrix("m"), basis.matrix("m2")
-        WG = Wg * G0
-        N = Wg @ Lmask
-        Sg = WG @ Lmask
-        Sgg = (WG * G0) @ Lmask
-        Sm = Wg @ Lm
-        Smm = Wg @ Lm2
-        Sgm = WG @ Lm
+    return basis.masked().pearson(G0, gvalid, W)
+
+
+def _wrap_is_cheap(basis: _LagBasis) -> bool:
+    """True when :class:`_FftPair`'s O(L²) wrap correction per row is cheap next to an FFT (L² ≤ 8·n);
+    longer lag ranges (e.g. ±15 days of 10-minute bins) take the block-FFT lag sums even without gaps."""
+    return basis.L * basis.L <= 8 * basis.n
+
+
+def _pearson_rows_lagmatrix(G: np.ndarray, gvalid: np.ndarray, basis: _LagBasis, W: np.ndarray | None = None):
+    """The lag-matrix form of :func:`_pearson_rows` for gaps (n × (2L+1) memory): the tests' reference."""
+    G0 = np.where(gvalid[None, :], G, 0.0)
+    Wg = gvalid[None, :].astype(float) if W is None else W * gvalid[None, :]
+    Wg = np.broadcast_to(Wg, G.shape)
+    Lmask, Lm, Lm2 = basis.matrix("mask"), basis.matrix("m"), basis.matrix("m2")
+    WG = Wg * G0
+    N = Wg @ Lmask
+    Sg = WG @ Lmask
+    Sgg = (WG * G0) @ Lmask
+    Sm = Wg @ Lm
+    Smm = Wg @ Lm2
+    Sgm = WG @ Lm
     with np.errstate(invalid="ignore", divide="ignore"):
         num = N * Sgm - Sg * Sm
         den = (N * Sgg - Sg**2) * (N * Smm - Sm**2)
@@ -458,13 +524,15 @@ def surrogate_max_stat(
 ) -> np.ndarray:
     """max_k |r(k)| for ``n_surrogates`` surrogates of ``g`` against the magma ``basis``.
 
-    Missing gas bins are filled with the gas mean to make the surrogates, then masked again, so each
-    surrogate has exactly the observed pair structure.
+    With gaps, phase surrogates are made on the full grid from the gap-corrected spectrum
+    (:func:`degas.analysis.surrogates.gapped_amplitudes`) and the gas gap mask is re-imposed, so each
+    surrogate has the observed pair structure and the series' autocorrelation; IAAFT surrogates
+    still fill gaps with the gas mean (which whitens them slightly).
     """
     gvalid = np.isfinite(g)
     out = np.empty(n_surrogates)
     i = 0
-    if gvalid.all() and basis.complete:
+    if gvalid.all() and basis.complete and _wrap_is_cheap(basis):
         fft = _FftPair(basis.m0, basis.L)
         gz = (g - g.mean()) / g.std()
         if method == "phase":
@@ -479,6 +547,18 @@ def surrogate_max_stat(
             for S in iter_surrogates(gz, n_surrogates, method=method, seed=seed, chunk_size=chunk_size):
                 out[i : i + S.shape[0]] = np.nanmax(np.abs(fft.rows(S, None, normalisation)), axis=1)
                 i += S.shape[0]
+        return out
+    if method == "phase" and normalisation == "pearson":
+        # gaps (or a long lag range): surrogates on the full grid from the gap-corrected spectrum, the gap
+        # mask re-imposed, r by masked FFT lag sums (O(n log n) time, O(n) memory per surrogate)
+        gz = (g - np.nanmean(g)) / np.nanstd(g)
+        amp = gapped_amplitudes(gz)
+        chunk_size = chunk_size or max(1, int(2_000_000 // g.size))
+        for z in iter_phase_spectra(gz, n_surrogates, seed=seed, chunk_size=chunk_size, amplitudes=amp):
+            S = sfft.irfft(z, n=g.size, axis=1, workers=1)
+            r, _ = _pearson_rows(S, gvalid, basis)
+            out[i : i + S.shape[0]] = np.nanmax(np.abs(r), axis=1)
+            i += S.shape[0]
         return out
     fill = np.where(gvalid, g, np.nanmean(g))
     for chunk in iter_surrogates(fill, n_surrogates, method=method, seed=seed, chunk_size=chunk_size):

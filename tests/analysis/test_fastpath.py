@@ -16,7 +16,7 @@ import ruptures as rpt
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from degas.analysis._fastpath import fpop_l2, pelt_l2, segmentation_cost
+from degas.analysis._fastpath import fpop_l2, geom_l2, pelt_l2, segmentation_cost
 
 
 def optimal_partitioning(x, beta, min_size, seg_coef=0.0):
@@ -178,3 +178,48 @@ def test_fpop_and_pelt_agree_on_longer_signals(m):
         b2, c2 = pelt_l2(x, beta, m)
         assert _legal(b1, n, m) and _legal(b2, n, m)
         assert _close(c1, c2)
+
+
+# GeomFPOP-style geometric pruning (Pishchagina, Rigaill & Runge 2024) for joint and MBIC detection:
+# the optimum must equal exhaustive optimal partitioning whatever the comparison schedule and seed.
+
+
+@settings(max_examples=100, deadline=None)
+@given(problems(max_n=50, dims=2), st.sampled_from([0.0, 0.7, 2.0]), st.integers(1, 3), st.integers(0, 9))
+def test_geom_joint_equals_optimal_partitioning(p, seg_coef, every, seed):
+    x, beta, m = p
+    bkps, cost = geom_l2(x, beta, m, seg_coef, seed=seed, every=every)
+    assert _legal(bkps, len(x), m)
+    assert _close(cost, optimal_partitioning(x, beta, m, seg_coef))
+
+
+@settings(max_examples=100, deadline=None)
+@given(problems(max_n=50), st.floats(0.1, 3.0), st.integers(1, 3))
+def test_geom_mbic_equals_optimal_partitioning(p, seg_coef, every):
+    x, beta, m = p
+    bkps, cost = geom_l2(x, beta, m, seg_coef, every=every)
+    assert _legal(bkps, len(x), m)
+    assert _close(cost, optimal_partitioning(x, beta, m, seg_coef))
+
+
+@settings(max_examples=40, deadline=None)
+@given(problems(max_n=35, dims=3), st.sampled_from([0.0, 1.0]))
+def test_geom_three_series_equals_optimal_partitioning(p, seg_coef):
+    x, beta, m = p
+    bkps, cost = geom_l2(x, beta, m, seg_coef, every=1)
+    assert _close(cost, optimal_partitioning(x, beta, m, seg_coef))
+
+
+@pytest.mark.parametrize("m", [1, 5, 20])
+@pytest.mark.parametrize("seg_coef", [0.0, 1.0])
+def test_geom_and_pelt_agree_on_longer_joint_signals(m, seg_coef):
+    # few changes and many: the geometric pruning against the O(n²) PELT reference
+    rng = np.random.default_rng(10 + m)
+    n = 2500
+    x = np.repeat(rng.normal(scale=1.5, size=(5, 2)), n // 5, axis=0) + rng.standard_t(4, size=(n, 2))
+    for beta in (1.0, 4 * math.log(n), 60.0):
+        for xs in (x, x[:, 0]):
+            b1, c1 = geom_l2(xs, beta, m, seg_coef)
+            b2, c2 = pelt_l2(xs, beta, m, seg_coef)
+            assert _legal(b1, n, m)
+            assert _close(c1, c2)
