@@ -431,8 +431,8 @@ def classify_from_relation(
     """Label the record coupled / quiet / gas_only / magma_only against the fitted gas–magma relation.
 
     1. Gas (log) and magma output are segmented **jointly** (shared change times, the exact solver of
-       :mod:`degas.analysis.changepoints`); the lag τ is measured inside the segments with their means removed
-       (:func:`degas.analysis.stretch_lags.stretch_lags`); every piece has one gas level and one level of
+       :mod:`degas.analysis.changepoints`); a first lag τ is the profile least-squares lag with one intercept
+       per segment (:func:`degas.analysis.stretch_lags.stretch_lags`); every piece has one gas level and one level of
        the output τ later, measured over the same days.
     2. The relation gas = g0 + k·Q(t + τ) (:func:`degas.analysis.relation.fit_relation`) is fitted on the
        days of the pieces consistent with it: starting from k of the pulses inside segments and g0 the
@@ -447,6 +447,10 @@ def classify_from_relation(
        fraction says on/off, not how much: there gas is judged against the background band alone (eruptive
        phase with gas above it → coupled, not above → magma_only; pause above → gas_only, else quiet), and the
        starting background is the lower duration-weighted quartile of the pause levels.
+    4. The reported lag and its interval: the profile least-squares lag of the relation over the coupled days
+       with one intercept per contiguous coupled stretch (the relation holds across its pieces, so the
+       output's level changes inside a stretch place the lag too), output days counted only where the output
+       is active (so that a pause after a stretch cannot pull the lag).
 
     Parameters
     ----------
@@ -545,7 +549,7 @@ def classify_from_relation(
         notes.append("the consistent pieces alone do not vary in output: the relation is fitted on every day")
     lab = _label_pieces(p, rel.g0_kg_s, rel.k, rel.predict_se(Q), rel.residual_scale_kg_s, rel.residual_phi,
                         band, z, thr, rel.independent, given, fraction)
-    # 3. the lag inside the coupled stretches (segment means removed), with its bootstrap interval
+    # 3. the lag inside the coupled stretches (profile fit, one intercept per stretch), with its bootstrap interval
     lags = None
     if magma_measure != "eruptive_fraction" and not rel.independent and (lab["label"] == "coupled").any():
         coupled = np.isin(ids, lab.loc[lab["label"] == "coupled", "piece"].to_numpy())
