@@ -340,6 +340,13 @@ def _joint_segments_(g, qs, index, magma_measure, min_segment, max_gap, penalty,
     return np.where(out >= 0, inv - (1 if (out < 0).any() else 0), -1)
 
 
+def _stretch_ids(coupled: np.ndarray) -> np.ndarray:
+    """Ids of the contiguous runs of ``coupled`` bins (0, 1, …; -1 elsewhere)."""
+    c = np.asarray(coupled, bool)
+    run = np.cumsum(np.r_[c[:1], c[1:] & ~c[:-1]]) - 1
+    return np.where(c, run, -1)
+
+
 def _debounce(on: np.ndarray, m: int) -> np.ndarray:
     """Runs shorter than m bins take the state of the run before them (the first run is kept)."""
     on = on.copy()
@@ -424,8 +431,8 @@ def classify_from_relation(
     """Label the record coupled / quiet / gas_only / magma_only against the fitted gas–magma relation.
 
     1. Gas (log) and magma output are segmented **jointly** (shared change times, the exact solver of
-       :mod:`degas.analysis.changepoints`); the lag τ is measured inside the segments with their means removed
-       (:func:`degas.analysis.stretch_lags.stretch_lags`); every piece has one gas level and one level of
+       :mod:`degas.analysis.changepoints`); a first lag τ is the profile least-squares lag with one intercept
+       per segment (:func:`degas.analysis.stretch_lags.stretch_lags`); every piece has one gas level and one level of
        the output τ later, measured over the same days.
     2. The relation gas = g0 + k·Q(t + τ) (:func:`degas.analysis.relation.fit_relation`) is fitted on the
        days of the pieces consistent with it: starting from k of the pulses inside segments and g0 the
@@ -440,6 +447,10 @@ def classify_from_relation(
        fraction says on/off, not how much: there gas is judged against the background band alone (eruptive
        phase with gas above it → coupled, not above → magma_only; pause above → gas_only, else quiet), and the
        starting background is the lower duration-weighted quartile of the pause levels.
+    4. The reported lag and its interval: the profile least-squares lag of the relation over the coupled days
+       with one intercept per contiguous coupled stretch (the relation holds across its pieces, so the
+       output's level changes inside a stretch place the lag too), output days counted only where the output
+       is active (so that a pause after a stretch cannot pull the lag).
 
     Parameters
     ----------
@@ -538,13 +549,17 @@ def classify_from_relation(
         notes.append("the consistent pieces alone do not vary in output: the relation is fitted on every day")
     lab = _label_pieces(p, rel.g0_kg_s, rel.k, rel.predict_se(Q), rel.residual_scale_kg_s, rel.residual_phi,
                         band, z, thr, rel.independent, given, fraction)
-    # 3. the lag inside the coupled stretches (segment means removed), with its bootstrap interval
+    # 3. the lag inside the coupled stretches (profile fit, one intercept per stretch), with its bootstrap interval
     lags = None
     if magma_measure != "eruptive_fraction" and not rel.independent and (lab["label"] == "coupled").any():
         coupled = np.isin(ids, lab.loc[lab["label"] == "coupled", "piece"].to_numpy())
         try:
-            lags = stretch_lags(gas, magma, ids_g, coupled, max_lag=max_lag, n_boot=n_boot, seed=seed,
-                                magma_segment_id=ids_q)
+            # one intercept per contiguous coupled stretch (the relation holds across its pieces, so the
+            # output's level changes inside it inform the lag); output pairs only where the output is active
+            on = pd.Series(q >= thr).where(np.isfinite(q)).ffill().bfill().fillna(0).to_numpy(dtype=bool)
+            on = _debounce(on, max(2, int(np.ceil(pd.Timedelta(min_segment) / step))))
+            lags = stretch_lags(gas, magma, _stretch_ids(coupled), coupled, max_lag=max_lag, n_boot=n_boot,
+                                seed=seed, magma_segment_id=np.where(on, 0, -1))
         except NotEnoughDataError as exc:
             notes.append(f"lag inside coupled stretches not measured: {exc}")
         weak = lags is not None and ((lags.k_within_ci is not None and lags.k_within_ci[0] <= 0)
@@ -554,8 +569,9 @@ def classify_from_relation(
 
             why = (f"{INDEPENDENT}: inside the coupled stretches gas does not follow the output's pulses "
                    f"(peak r = {lags.peak_r:.2f} at {lags.lag_days:+.0f} d, surrogate p = {lags.p_value:.3f} over "
-                   f"lags ±{(len(lags.r_by_lag) - 1) // 2} bins; within-segment k interval "
-                   f"{lags.k_within_ci[0]:.3g} to {lags.k_within_ci[1]:.3g})")
+                   f"lags ±{(len(lags.r_by_lag) - 1) // 2} bins"
+                   + ("" if lags.k_within_ci is None else
+                      f"; within-stretch k interval {lags.k_within_ci[0]:.3g} to {lags.k_within_ci[1]:.3g}") + ")")
             rel = dataclasses.replace(rel, verdict=INDEPENDENT, notes=rel.notes + (why,))
             lab = _label_pieces(p, rel.g0_kg_s, rel.k, rel.predict_se(Q), rel.residual_scale_kg_s,
                                 rel.residual_phi, band, z, thr, True, given, fraction)

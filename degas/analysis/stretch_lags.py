@@ -1,16 +1,27 @@
-"""Lags where they mean something: the gas–magma lag inside coupled stretches, segment means removed.
+"""Lags where they mean something: the gas–magma lag inside coupled stretches, as a profile fit of the relation.
 
 Across a whole record, regime steps (a pause, a new eruptive phase) dominate any cross-correlation: two
 series that step together correlate at every lag near the step, so the peak says little about a lead or lag.
-Inside coupled stretches, with each segment's mean removed from both series (so that no step can make r),
-what remains is the co-variation of pulses, and its peak is the lag. The correlation at lag L is the pooled
-Pearson r of (gas(t) − segment mean, Q(t + L) − segment mean) over the selected days; **a positive lag means
-gas leads magma output**. The slope of the same pairs at the best lag, ``k_within``, is the excess gas per
-unit output seen in the pulses alone.
+Inside coupled stretches the relation gas(t) = g0_s + k·Q(t + L) + e(t) holds with one intercept g0_s per
+intercept group s (a segment, or a whole coupled stretch) and one common slope k. For every lag L it is
+fitted by least squares over the pairs (gas(t), Q(t + L)) of the selected days — the intercepts taken out by
+centring both members of the pairs within each group *over the pairs present at that lag* (the within, or
+fixed-effects, estimator; e.g. Wooldridge 2010, ch. 10) — and the lag is the one that maximises the fit: the
+profile least-squares estimate of τ (the pooled within-group r² is 1 − RSS/TSS of that fit, so its argmax is
+the argmin of the residual sum of squares: profile least squares over a nonlinear parameter, Seber & Wild
+1989). The gas never carries a step between groups into the fit, so regime steps cannot make r; the output's
+level changes *inside* a group stay in, and they carry the lag as much as its pulses do. **A positive lag means
+gas leads magma output** (r(L) = corr(gas(t), Q(t + L))). ``k_within`` is k at the best lag.
 
 The interval of the lag (and of ``k_within``) is a percentile interval of a moving-block bootstrap
 (Künsch 1989) over the selected days, blocks twice the decorrelation length of the demeaned gas (see
-:func:`degas.analysis.relation.block_length`), at least 7 days. Each replicate re-picks its own best lag.
+:func:`degas.analysis.relation.block_length`), at least 7 days; each replicate re-fits the profile and re-picks
+its own best lag.
+
+Prewhitening both series with the AR filter of the residuals (Cochrane & Orcutt 1949, order by AIC) before the
+profile was tried on the scenario bank of issue 9 and made the lag worse (13 → 8 of 20 high-background
+records, with per-segment intercepts): smooth output pulses lose most of their power to the filter, and each
+missing gas day costs one more filtered day, so it is not used.
 """
 
 from __future__ import annotations
@@ -30,12 +41,13 @@ DAY = pd.Timedelta("1D")
 class StretchLagResult:
     """Lag (positive: gas leads) and within-segment slope inside the selected (coupled) stretches.
 
-    ``r_by_lag`` columns: lag_days, r (pooled, segment means removed). ``lag_ci`` and ``k_within_ci`` are
-    block-bootstrap percentile intervals (None without bootstrap). ``k_within`` is kg/s of gas per m³/s of
-    output (kg/m³). ``step_share`` is the share of the variance of each series (gas, output) carried by the
-    segment means over the whole record: when both are large, a whole-record CCF is dominated by regime
-    changes. ``p_value`` : share of phase-randomised surrogates of the output whose largest correlation over
-    the lags searched reaches the observed peak (NaN without surrogates).
+    ``r_by_lag`` columns: lag_days, r (pooled within the intercept groups, centred per group and lag).
+    ``lag_ci`` and ``k_within_ci`` are block-bootstrap percentile intervals (None without bootstrap).
+    ``k_within`` is kg/s of gas per m³/s of output (kg/m³). ``step_share`` is the share of the variance of
+    each series (gas, output) carried by the group means over the whole record: when both are large, a
+    whole-record CCF is dominated by regime changes. ``p_value`` : share of phase-randomised surrogates of the
+    output whose largest correlation over the lags searched reaches the observed peak (NaN without
+    surrogates).
     """
 
     lag: pd.Timedelta
@@ -103,18 +115,19 @@ def stretch_lags(
     magma_segment_id: np.ndarray | None = None,
     n_surrogates: int = 200,
 ) -> StretchLagResult:
-    """Pooled within-segment lagged correlation of gas against magma output on the selected days.
+    """Profile least-squares lag of gas = g0_group + k·Q(t + lag) on the selected days (pooled within-group r).
 
     Parameters
     ----------
     gas, magma : gas flux (kg/s) and magma output (m³/s DRE or eruptive fraction) on one regular UTC grid.
-    segment_id : int per bin, the segment each bin belongs to (-1: none); means are removed per segment.
+    segment_id : int per bin (gas time), the intercept group each bin belongs to (-1: none): one g0 per group,
+        fitted at every lag (a segment, or a whole coupled stretch).
     select : bool per bin (gas time): days whose pairs enter (e.g. the coupled stretches).
-    magma_segment_id : segments of the output on its own time axis (default ``segment_id``): when gas leads by
-        τ, the output's steps come τ later, and removing its means at its own change times keeps a step from
-        pulling the lag towards 0.
-    n_surrogates : phase-randomised surrogates of the demeaned output (Theiler et al. 1992; generated on the
-        full grid with missing days set to 0, the segment mean, and the gaps re-imposed) for the p-value of the
+    magma_segment_id : optional segments of the output on its own time axis: its means are removed per segment
+        before the fit and bins with -1 never enter a pair (e.g. -1 where the output is inactive, so that the
+        days after a stretch's end cannot pull the lag). Default: the output as it is, every bin usable.
+    n_surrogates : phase-randomised surrogates of the output (Theiler et al. 1992; generated on the full grid
+        with missing days set to its mean, and the gaps re-imposed) for the p-value of the
         largest correlation over all lags searched (0: no p-value).
     max_lag : lag search range (±). n_boot : block-bootstrap replicates (0: no interval).
     """
@@ -122,12 +135,15 @@ def stretch_lags(
     L = int(pd.Timedelta(max_lag) // step)
     seg = np.asarray(segment_id, dtype=int)
     gd = _demean(gas.to_numpy(dtype=float), seg)
-    qd = _demean(magma.to_numpy(dtype=float), seg if magma_segment_id is None else np.asarray(magma_segment_id, int))
+    q = magma.to_numpy(dtype=float)
+    qd = q.copy() if magma_segment_id is None else _demean(q, np.asarray(magma_segment_id, int))
     n = len(gd)
     lags = np.arange(-L, L + 1)
     pos = np.flatnonzero(np.asarray(select, dtype=bool) & np.isfinite(gd))
     if len(pos) < max(20, 4 * L):
         raise NotEnoughDataError(f"only {len(pos)} selected days with gas: too few for lags up to ±{L} bins")
+    _, grp = np.unique(seg[pos], return_inverse=True)  # intercept group (segment) of each selected gas day
+    n_grp = int(grp.max()) + 1
     # per selected day and lag: valid, g, q, g², q², g·q (pairs with Q(t + lag))
     j = pos[:, None] + lags[None, :]
     inside = (j >= 0) & (j < n)
@@ -136,16 +152,20 @@ def stretch_lags(
     ok = np.isfinite(qv)
     gz, qz = np.where(ok, gv, 0.0), np.where(ok, qv, 0.0)
     parts = np.stack([ok.astype(float), gz, qz, gz * gz, qz * qz, gz * qz], axis=-1)  # (m, lags, 6)
+    member = grp[None, :] == np.arange(n_grp)[:, None]  # (groups, m)
 
     def corr(s):
+        """Profile fit over (..., groups, lags, 6) sums: one intercept per group and lag, one common slope."""
         c, sg, sq, sgg, sqq, sgq = (s[..., i] for i in range(6))
         with np.errstate(all="ignore"):
-            cov = sgq - sg * sq / c
-            vg = sgg - sg**2 / c
-            vq = sqq - sq**2 / c
+            has = c > 1
+            cs_ = np.where(has, c, 1.0)
+            cov = np.where(has, sgq - sg * sq / cs_, 0.0).sum(axis=-2)
+            vg = np.where(has, sgg - sg**2 / cs_, 0.0).sum(axis=-2)
+            vq = np.where(has, sqq - sq**2 / cs_, 0.0).sum(axis=-2)
             return cov / np.sqrt(vg * vq), cov / vq
 
-    tot = parts.sum(axis=0)
+    tot = np.einsum("gm,mlk->glk", member.astype(float), parts)
     r, slope = corr(tot)
     r = np.where(np.isfinite(r), r, -np.inf)
     best = int(np.argmax(r))
@@ -155,7 +175,9 @@ def stretch_lags(
     p_value = np.nan
     if n_surrogates > 0:
         rng = np.random.default_rng(None if seed is None else seed + 1)
-        spec = np.fft.rfft(np.where(np.isfinite(qd), qd, 0.0))
+        qm = np.where(np.isfinite(qd), qd, np.nan)
+        qm = qm - np.nanmean(qm)
+        spec = np.fft.rfft(np.where(np.isfinite(qm), qm, 0.0))
         ph = rng.uniform(0, 2 * np.pi, size=(n_surrogates, len(spec)))
         ph[:, 0] = 0.0
         if n % 2 == 0:
@@ -166,21 +188,22 @@ def stretch_lags(
         oks = np.isfinite(qs_)
         gzs = np.where(oks, gv[None], 0.0)
         qzs = np.where(oks, qs_, 0.0)
-        ss = np.stack([oks.sum(1), gzs.sum(1), qzs.sum(1), (gzs * gzs).sum(1), (qzs * qzs).sum(1),
-                       (gzs * qzs).sum(1)], axis=-1).astype(float)
+        ss = np.stack([np.stack([(x * mg[None, :, None]).sum(1) for mg in member], axis=1)
+                       for x in (oks.astype(float), gzs, qzs, gzs * gzs, qzs * qzs, gzs * qzs)], axis=-1)
         rs, _ = corr(ss)
         p_value = float((1 + np.sum(np.nanmax(rs, axis=1) >= r[best])) / (1 + n_surrogates))
     block, _ = block_length(gd[pos])
     block = min(block, max(1, len(pos) // 4))
     lag_ci = k_ci = None
     if n_boot > 0:
-        # moving blocks (Künsch 1989) summed through cumulative sums: whole blocks, ceil(m / block) of them
+        # moving blocks (Künsch 1989) summed through cumulative sums per group: ceil(m / block) whole blocks
         rng = np.random.default_rng(seed)
         n_blocks = int(np.ceil(len(pos) / block))
         starts = rng.integers(0, len(pos) - block + 1, size=(n_boot, n_blocks))
-        cs = np.concatenate([np.zeros((1, len(lags), 6)), np.cumsum(parts, axis=0)])
-        sums = (cs[starts + block] - cs[starts]).sum(axis=1)  # (B, lags, 6)
-        rb, sb = corr(sums)
+        cs = np.concatenate([np.zeros((n_grp, 1, len(lags), 6)),
+                             np.cumsum(member[:, :, None, None] * parts[None], axis=1)], axis=1)
+        sums = (cs[:, starts + block] - cs[:, starts]).sum(axis=2)  # (groups, B, lags, 6)
+        rb, sb = corr(np.moveaxis(sums, 0, 1))
         rb = np.where(np.isfinite(rb), rb, -np.inf)
         bl = lags[np.argmax(rb, axis=1)]
         a = (1 - ci_level) / 2

@@ -170,8 +170,9 @@ def _methods(bundle) -> str:
         "log10 E = 1.5 M + 4.8 (Gutenberg &amp; Richter 1956, approximate).</p>",
         "<p>Coupling: SO2 = g0 + k·output(t + τ) fitted by Huber regression (Huber 1964) on the days of the pieces "
         "consistent with one relation, intervals from a moving-block bootstrap (Künsch 1989); gas and output "
-        "segmented jointly, each piece labelled against the relation's prediction band; τ measured inside the "
-        "coupled stretches with segment means removed; survey volumes segmented by changes of slope.</p>",
+        "segmented jointly, each piece labelled against the relation's prediction band; τ from a profile "
+        "least-squares fit of the relation inside the coupled stretches, one intercept per stretch; survey "
+        "volumes segmented by changes of slope.</p>",
         "<h3>Cautions</h3><ul>" + "".join(f"<li>{esc(c)}</li>" for c in STANDING_CAUTIONS) + "</ul>",
         "<h3>Series used</h3>" + table_html(pd.DataFrame({"role": list(roles), "series": [str(v) for v in
                                                                                       roles.values()]})),
