@@ -332,10 +332,19 @@ def storage_depths(mi: MeltInclusions, *, model: str = "Liu", temperature_c: flo
     crust = crust or CrustModel()
     d = mi.data
     d = d[d["analysis_type"].isin(["inclusion", "embayment"])]
-    d = d[d["h2o_frac"].notna() | d["co2_frac"].notna()].reset_index(drop=True)
-    if d.empty:
-        raise NotEnoughDataError("no inclusion or embayment with H2O or CO2 to compute a saturation pressure")
     notes: list[str] = []
+    # H2O is needed: with CO2 alone the pure-CO2 pressure is far too low, not a usable minimum.
+    n_no_h2o = int((d["h2o_frac"].isna() & d["co2_frac"].notna()).sum())
+    if n_no_h2o:
+        notes.append(f"{n_no_h2o} inclusion(s)/embayment(s) with CO2 but no H2O: no saturation pressure computed "
+                     "(a missing H2O is not zero)")
+    d = d[d["h2o_frac"].notna()].reset_index(drop=True)
+    if d.empty:
+        raise NotEnoughDataError("no inclusion or embayment with H2O to compute a saturation pressure")
+    n_no_co2 = int(d["co2_frac"].isna().sum())
+    if n_no_co2:
+        notes.append(f"{n_no_co2} inclusion(s)/embayment(s) without CO2: CO2 taken as 0, so their pressure is the "
+                     "pure-H2O saturation pressure (a minimum)")
     rng = np.random.default_rng(seed)
     n = len(d)
     h = d["h2o_frac"].fillna(0.0).to_numpy() * 100

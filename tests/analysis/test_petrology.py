@@ -245,3 +245,24 @@ def test_vt_depths_by_regime_interval():
     res = P.vt_depths_by_interval(ec, iv).set_index("label")
     assert res.loc["coupled", "n_vt"] == 30 and res.loc["gas_only", "n_vt"] == 30
     assert res.loc["gas_only", "vt_p50_m"] == pytest.approx(np.median(z[20:50]))
+
+
+def test_missing_h2o_is_not_zero_and_missing_co2_is_noted():
+    # review: a CO2-only row used to get the pure-CO2 pressure (H2O NaN filled with 0), far too shallow.
+    rows = [{"time": "2024-01-01", "phase": "p", "analysis_id": "both", "analysis_type": "inclusion",
+             "h2o_frac": 0.05, "co2_frac": 500e-6},
+            {"time": "2024-01-01", "phase": "p", "analysis_id": "co2only", "analysis_type": "inclusion",
+             "co2_frac": 500e-6},
+            {"time": "2024-01-01", "phase": "p", "analysis_id": "h2oonly", "analysis_type": "inclusion",
+             "h2o_frac": 0.05}]
+    res = P.storage_depths(_mi(rows), temperature_c=850.0, n_draws=50, seed=0)
+    inc = res.inclusions.set_index("analysis_id")
+    assert "co2only" not in inc.index
+    assert any("CO2 but no H2O" in n for n in res.notes)
+    assert any("without CO2" in n and "minimum" in n for n in res.notes)
+    # the H2O-only row gets the pure-H2O pressure, below the mixed-fluid one
+    p_pure = P.liu_saturation_pressure(5.0, 0.0, 850.0)[0]
+    assert inc.loc["h2oonly", "pressure_mpa"] == pytest.approx(float(p_pure))
+    assert inc.loc["h2oonly", "pressure_mpa"] < inc.loc["both", "pressure_mpa"]
+    with pytest.raises(NotEnoughDataError):
+        P.storage_depths(_mi(rows[1:2]), n_draws=10)
