@@ -548,15 +548,21 @@ def _through_time(vt: pd.DataFrame, step: str = "30D", min_events: int = 5) -> p
 
 def phase_windows(mi: MeltInclusions, chronology=None, pad: pd.Timedelta = pd.Timedelta("30D")) -> dict:
     """Time window of each inclusion phase: the eruptive interval of the chronology that holds its dates, or
-    the span of its dates padded by ``pad`` on both sides. Phases without dates get no window."""
+    the span of its dates padded by ``pad`` on both sides. Phases without dates get no window.
+
+    Only chronology rows with state "eruptive" and a duration count: a point event (end = start, e.g. an
+    explosion) or a pause/unknown interval is not the phase the inclusions erupted in."""
     out = {}
     d = mi.data
+    c = None
+    if chronology is not None:
+        c = chronology.data
+        c = c[(c["state"] == "eruptive") & (c["end"].isna() | (c["end"] > c["start"]))]
     for ph, grp in d.groupby(d["phase"].fillna("all").astype(str)):
         t = grp["time"].dropna()
         if t.empty:
             continue
-        if chronology is not None:
-            c = chronology.data
+        if c is not None:
             hit = c[(c["start"] <= t.min()) & (c["end"].fillna(pd.Timestamp.max.tz_localize("UTC")) >= t.max())]
             if not hit.empty:
                 out[ph] = (hit["start"].iloc[0], hit["end"].iloc[0] if pd.notna(hit["end"].iloc[0]) else t.max() + pad)

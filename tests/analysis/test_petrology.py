@@ -266,3 +266,22 @@ def test_missing_h2o_is_not_zero_and_missing_co2_is_noted():
     assert inc.loc["h2oonly", "pressure_mpa"] < inc.loc["both", "pressure_mpa"]
     with pytest.raises(NotEnoughDataError):
         P.storage_depths(_mi(rows[1:2]), n_draws=10)
+
+
+def test_phase_windows_ignore_point_events_and_pauses():
+    # review: an explosion (point event, end = start) on the eruption date gave a zero-length window (no VT
+    # events), and a pause holding the date was taken as the eruptive phase.
+    from degas.model import Chronology
+
+    ts = pd.Timestamp
+    chron = pd.DataFrame({
+        "start": [ts("2024-03-10", tz="UTC"), ts("2024-01-01", tz="UTC"), ts("2024-05-01", tz="UTC")],
+        "end": [ts("2024-03-10", tz="UTC"), ts("2024-04-01", tz="UTC"), ts("2024-12-01", tz="UTC")],
+        "state": ["eruptive", "eruptive", "pause"], "style": ["explosive", "effusive", "unknown"],
+        "note": ["", "", ""]})
+    ch = Chronology(chron, SeriesMeta(kind="chronology", quantity="state"))
+    rows = [{"time": "2024-03-10", "phase": "a", "analysis_id": "x", "analysis_type": "inclusion", "h2o_frac": 0.04},
+            {"time": "2024-06-15", "phase": "b", "analysis_id": "y", "analysis_type": "inclusion", "h2o_frac": 0.04}]
+    win = P.phase_windows(_mi(rows), ch)
+    assert win["a"] == (ts("2024-01-01", tz="UTC"), ts("2024-04-01", tz="UTC"))
+    assert win["b"] == (ts("2024-05-16", tz="UTC"), ts("2024-07-15", tz="UTC"))  # padded dates, not the pause
