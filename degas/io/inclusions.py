@@ -24,7 +24,8 @@ import pandas as pd
 from degas.chem import S_PER_SO3
 from degas.errors import InputError, UnitError
 from degas.io.base import ReadOptions, ReadResult, make_provenance, rejects_frame
-from degas.io.columns import inclusion_column, split_header
+from degas.io.columns import inclusion_column, sigma_multiple
+from degas.io.columns import split_inclusion_header as split_header
 from degas.model import ANALYSIS_TYPES, INCLUSION_VOLATILES, OXIDES, MeltInclusions, SeriesMeta
 from degas.units import conversion_factor
 
@@ -130,6 +131,9 @@ def build_melt_inclusions(path: Path, raw, options: ReadOptions, reader: str) ->
             vh = split_header(col) if col else None
             vunit = (options.units.get(vol) or vh.unit or (vh.tags[0] if vh.tags else None)) if vh else None
             fs = unit_factor(scol, vunit or DEFAULT_UNITS[vol], vol + "_sd")
+            if sigma_multiple(split_header(scol)) == 2:
+                fs /= 2
+                assumptions.append(f"column {scol!r} holds 2-sigma uncertainties; halved to 1-sigma")
             out[f"{vol}_sd_frac"] = numbers(scol, f"{vol.upper()} 1-sigma") * fs
     h2o = out["h2o_frac"]
     rej.reject(h2o > MAX_H2O_WT_PCT / 100, vol_cols.get("h2o"),
