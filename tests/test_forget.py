@@ -112,3 +112,29 @@ def test_a_second_value_column_of_the_same_file_is_not_refused(tmp_path):
     assert rep.dropped == ["gas_flux.so2_flux.all"] and any("another reading" in n for n in rep.notes)
     rep = forget(a, tmp_path / "two.csv")
     assert rep.dropped == ["gas_flux.co2_flux.all"] and Archive.open(a.root).entries() == []
+
+
+def test_forget_keeps_rows_another_remaining_file_also_gave(arc):
+    # review: forgetting a.csv removed 2024-01-03 although b.csv, still in the archive, holds that same row
+    a, tmp = arc
+    (sid,) = [e.series_id for e in a.entries()]
+    rep = forget(a, tmp / "a.csv")
+    assert rep.removed == {sid: 2}
+    data = Archive.open(a.root).load(sid).data
+    assert data["value"].tolist() == pytest.approx([120 / 86.4, 130 / 86.4])  # all of b.csv's rows remain
+    # and forgetting b.csv afterwards empties the series: no file is left that gave 2024-01-03
+    rep2 = forget(Archive.open(a.root), tmp / "b.csv")
+    assert rep2.dropped == [sid]
+
+
+def test_forget_after_a_refused_conflict_removes_the_row(tmp_path):
+    # a value b.csv tried to change was kept out (conflict): that row is a.csv's alone
+    (tmp_path / "a.csv").write_text(A)
+    (tmp_path / "b.csv").write_text("time,SO2 flux (t/d)\n2024-01-03,999\n2024-01-04,130\n")
+    a = Archive.create(tmp_path / "arc")
+    a.ingest_file(tmp_path / "a.csv")
+    a.ingest_file(tmp_path / "b.csv")
+    (sid,) = [e.series_id for e in a.entries()]
+    rep = forget(a, tmp_path / "a.csv")
+    assert rep.removed == {sid: 3}
+    assert Archive.open(a.root).load(sid).data["value"].tolist() == pytest.approx([130 / 86.4])
