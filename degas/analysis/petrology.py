@@ -377,6 +377,8 @@ def storage_depths(mi: MeltInclusions, *, model: str = "Liu", temperature_c: flo
         pd_ = np.vstack([_per_row(model, hd[i, :k], cd[i, :k], td[i, :k], d.iloc[[i] * k]) for i in range(n)])
         x_c = np.full(n, np.nan)
         notes.append(f"{model} (VESIcal) is slow: {k} Monte Carlo draws per inclusion")
+    if model == "Liu":
+        notes.extend(_liu_calibration_notes(p_c, t_lo, t_hi, d))
     n_nan = int(np.isnan(p_c).sum())
     if n_nan:
         notes.append(f"{n_nan} inclusion(s) outside the model's range (no saturation pressure)")
@@ -426,6 +428,35 @@ def storage_depths(mi: MeltInclusions, *, model: str = "Liu", temperature_c: flo
                  "diffusion lowers them)")
     return StorageResult(rows, pd.DataFrame(phase_rows), draws, model,
                          (float(np.min(t_lo)), float(np.max(t_hi))), crust, n_draws, seed, alt_model, tuple(notes))
+
+
+#: Calibrated range of Liu et al. (2005): 0-500 MPa, 700-1200 °C, rhyolitic melts (the ranges VESIcal's
+#: calibration checks state for its Liu model, Iacovino et al. 2021).
+LIU_RANGE = {"pressure_mpa": (0.0, 500.0), "temperature_c": (700.0, 1200.0)}
+#: SiO2 below which a melt is not rhyolitic (wt%, anhydrous; TAS rhyolite field starts near 69-72 wt%; a
+#: permissive bound, common practice).
+LIU_MIN_SIO2_WT_PCT = 68.0
+
+
+def _liu_calibration_notes(p_mpa, t_lo, t_hi, d: pd.DataFrame) -> list[str]:
+    """Notes when inclusions fall outside the Liu et al. (2005) calibration (pressure, temperature, melt)."""
+    out = []
+    (_p0, p1), (t0, t1) = LIU_RANGE["pressure_mpa"], LIU_RANGE["temperature_c"]
+    if np.min(t_lo) < t0 or np.max(t_hi) > t1:
+        out.append(f"temperatures {np.min(t_lo):g}-{np.max(t_hi):g} °C reach outside the Liu et al. (2005) "
+                   f"calibration ({t0:g}-{t1:g} °C): pressures are extrapolated")
+    n_hi = int(np.sum(np.asarray(p_mpa) > p1))
+    if n_hi:
+        out.append(f"{n_hi} inclusion(s) above {p1:g} MPa, beyond the Liu et al. (2005) calibration: extrapolated")
+    if "sio2_frac" in d:
+        sio2 = d["sio2_frac"].to_numpy(dtype=float) * 100
+        tot = d["oxide_total_frac"].to_numpy(dtype=float) * 100 if "oxide_total_frac" in d else np.full(len(d), 100.)
+        anhydrous = np.where(np.isfinite(tot) & (tot > 0), sio2 / tot * 100, sio2)
+        n_mafic = int(np.sum(anhydrous < LIU_MIN_SIO2_WT_PCT))
+        if n_mafic:
+            out.append(f"{n_mafic} inclusion(s) with SiO2 below {LIU_MIN_SIO2_WT_PCT:g} wt% (anhydrous): not "
+                       "rhyolitic, outside the Liu et al. (2005) calibration; choose a model for that melt")
+    return out
 
 
 def _per_row(model: str, h, c, t, d: pd.DataFrame) -> np.ndarray:

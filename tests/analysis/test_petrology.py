@@ -285,3 +285,19 @@ def test_phase_windows_ignore_point_events_and_pauses():
     win = P.phase_windows(_mi(rows), ch)
     assert win["a"] == (ts("2024-01-01", tz="UTC"), ts("2024-04-01", tz="UTC"))
     assert win["b"] == (ts("2024-05-16", tz="UTC"), ts("2024-07-15", tz="UTC"))  # padded dates, not the pause
+
+
+def test_liu_calibration_range_is_noted():
+    # Liu et al. (2005) calibration 0-500 MPa, 700-1200 °C, rhyolite (ranges as VESIcal's calibration checks
+    # for its Liu model state, Iacovino et al. 2021); review: 1500 °C or a basaltic inclusion passed silently.
+    rows = [{"time": "2024-01-01", "phase": "p", "analysis_id": "rhy", "analysis_type": "inclusion",
+             "h2o_frac": 0.04, "co2_frac": 100e-6, "sio2_frac": 0.74, "oxide_total_frac": 0.96},
+            {"time": "2024-01-01", "phase": "p", "analysis_id": "bas", "analysis_type": "inclusion",
+             "h2o_frac": 0.02, "co2_frac": 100e-6, "sio2_frac": 0.49, "oxide_total_frac": 0.98},
+            {"time": "2024-01-01", "phase": "p", "analysis_id": "deep", "analysis_type": "inclusion",
+             "h2o_frac": 0.08, "co2_frac": 2500e-6}]
+    ok = P.storage_depths(_mi(rows[:1]), temperature_c=850.0, n_draws=20)
+    assert not any("calibration" in n for n in ok.notes)
+    res = P.storage_depths(_mi(rows), temperature_c=(900.0, 1500.0), n_draws=20)
+    text = " ".join(res.notes)
+    assert "700-1200 °C" in text and "1 inclusion(s) above 500 MPa" in text and "1 inclusion(s) with SiO2" in text
