@@ -301,3 +301,15 @@ def test_liu_calibration_range_is_noted():
     res = P.storage_depths(_mi(rows), temperature_c=(900.0, 1500.0), n_draws=20)
     text = " ".join(res.notes)
     assert "700-1200 °C" in text and "1 inclusion(s) above 500 MPa" in text and "1 inclusion(s) with SiO2" in text
+
+
+def test_liu_retrograde_solubility_at_one_atmosphere_matches_experiments():
+    # Ryan, Russell, Nichols, Hess & Porritt (2015) Am. Mineral. 100, 774-786, abstract: 1-atm experiments on
+    # rhyolitic obsidian at 900-1100 °C give a retrograde H2O solubility of -7.1e-3 wt% per 100 °C
+    # (independent experiments, ten years after Liu et al. 2005). The Liu equations at 0.101325 MPa pure H2O
+    # give -7.07e-3 wt% per 100 °C over the same range.
+    t_c = np.array([900.0, 1000.0, 1100.0])
+    h, _ = P.liu_dissolved(0.101325, 0.0, t_c + 273.15)
+    slope_per_100c = np.polyfit(t_c, h, 1)[0] * 100
+    assert slope_per_100c == pytest.approx(-7.1e-3, rel=0.10)
+    assert np.all(np.diff(h) < 0)  # retrograde: less H2O dissolves at higher temperature at 1 atm
