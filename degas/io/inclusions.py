@@ -86,6 +86,12 @@ def build_melt_inclusions(path: Path, raw, options: ReadOptions, reader: str) ->
             roles.setdefault(kind, col)
     roles.update({k: v for k, v in options.columns.items() if k in ("sample_id", "analysis_id", "phase", "time",
                                                                     "host", "analysis_type")})
+    if "analysis_type" not in roles:  # a column whose cells are analysis types ("MI", "matrix glass") by content
+        col = _type_column_by_content(frame, set(roles.values()) | set(vol_cols.values()) | set(sd_cols.values())
+                                      | set(ox_cols.values()) | {total_col})
+        if col is not None:
+            roles["analysis_type"] = col
+            assumptions.append(f"column {col!r} read as the analysis type (its cells name inclusions and glasses)")
     if not {"h2o", "co2", "s"} & set(vol_cols):
         raise InputError(source, f"no H2O, CO2 or S column found; columns are {list(frame.columns)}")
     if "time" not in roles and "phase" not in roles:
@@ -225,6 +231,20 @@ def build_melt_inclusions(path: Path, raw, options: ReadOptions, reader: str) ->
     prov = make_provenance(path, reader, len(df), len(rows), None, assumptions, options)
     notes.extend(f"{source}: {a}" for a in dict.fromkeys(assumptions))
     return ReadResult([MeltInclusions(df, meta, (prov,))], rejects_frame(rows), notes, [lines])
+
+
+def _type_column_by_content(frame: pd.DataFrame, used: set) -> str | None:
+    """The one unused text column whose filled cells are all analysis-type words (at least two distinct)."""
+    lookup = {w for ws in _TYPE_WORDS.values() for w in ws}
+    hits = []
+    for col in frame.columns:
+        if col in used:
+            continue
+        vals = frame[col].dropna().astype(str).str.strip().str.lower()
+        vals = vals[vals != ""]
+        if len(vals) and vals.isin(lookup).all() and vals.nunique() >= 2:
+            hits.append(col)
+    return hits[0] if len(hits) == 1 else None
 
 
 def _row_id(row: pd.Series) -> str:

@@ -126,3 +126,13 @@ def test_bare_unit_headers_and_two_sigma_columns(tmp_path):
     assert d["s_frac"].tolist() == pytest.approx([300e-6, 50e-6])
     assert d["sio2_frac"].iloc[0] == pytest.approx(0.75)
     assert any("2-sigma" in n for n in res.notes)
+
+
+def test_analysis_type_column_found_by_its_cells(tmp_path):
+    # review: a header like "Analysis" was not recognised, so matrix glass was taken as melt inclusions
+    f = tmp_path / "mi.csv"
+    f.write_text("Sample,Phase,Analysis,H2O (wt%),CO2 (ppm),S (ppm)\n"
+                 "Q1,one,MI,4.0,500,300\nQ2,one,matrix glass,0.2,,50\nQ3,one,MI,4.2,520,310\n", encoding="utf-8")
+    res = read(f, ReadOptions(kind="melt_inclusions"))
+    assert res.records[0].data["analysis_type"].tolist() == ["inclusion", "matrix_glass", "inclusion"]
+    assert any("'Analysis' read as the analysis type" in n for n in res.notes)
