@@ -60,3 +60,27 @@ def test_phase_window_found_in_any_vents_chronology(tmp_path):
     ctx = depth_context(arc, Project())
     row = ctx.comparison.table.set_index("phase").loc["west"]
     assert (row["start"], row["end"]) == (pd.Timestamp("2023-03-01", tz="UTC"), pd.Timestamp("2023-09-01", tz="UTC"))
+
+
+def test_budget_sentence_says_whether_a_budget_used_the_draws(tmp_path):
+    # review: the section said "the gas budget's observed/expected ratio uses these draws" in a report whose
+    # gas budget had not run (no extrusion rate)
+    import dataclasses
+
+    from degas.depths import depth_context
+    from degas.io.base import ReadOptions
+    from degas.project import Project
+    from degas.report.depth_section import depth_sentences
+
+    (tmp_path / "mi.csv").write_text("Sample,Phase,Eruption date,Type,H2O (wt%),CO2 (ppm),S (ppm)\n"
+                                     + "".join(f"I{i},p,2023-06-01,MI,4.{i},300,250\n" for i in range(4))
+                                     + "".join(f"G{i},p,2023-06-01,matrix glass,0.2,,5{i}\n" for i in range(4)))
+    arc = Archive.create(tmp_path / "arc")
+    arc.ingest_file(tmp_path / "mi.csv", ReadOptions(kind="melt_inclusions"))
+    ctx = depth_context(arc, Project())
+    last = {k: depth_sentences(ctx, k)[-1] for k in (True, False, None)}
+    assert last[True].endswith("the gas budget's observed/expected ratio uses these draws.")
+    assert "no gas budget was run here" in last[False]
+    assert "a report's gas budget uses these draws" in last[None]
+    off = dataclasses.replace(ctx, settings=dataclasses.replace(ctx.settings, budget_from_inclusions=False))
+    assert "does not use it" in depth_sentences(off, True)[-1]
