@@ -84,3 +84,10 @@ def test_budget_sentence_says_whether_a_budget_used_the_draws(tmp_path):
     assert "a report's gas budget uses these draws" in last[None]
     off = dataclasses.replace(ctx, settings=dataclasses.replace(ctx.settings, budget_from_inclusions=False))
     assert "does not use it" in depth_sentences(off, True)[-1]
+
+
+def test_negative_depth_ranges_read_cleanly():
+    from degas.report.depth_section import _km_range
+
+    assert _km_range(1200.0, 3400.0) == "1.2–3.4"
+    assert _km_range(-300.0, 1900.0) == "−0.3 to 1.9"  # not "-0.3–1.9"

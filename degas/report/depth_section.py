@@ -33,6 +33,13 @@ def _km(m: float) -> str:
     return "n/a" if not np.isfinite(m) else f"{m / 1000:.1f}"
 
 
+def _km_range(a: float, b: float) -> str:
+    """A depth range in km for a sentence; a negative depth (above the datum) with a true minus and "to"."""
+    if np.isfinite(a) and a < 0:
+        return f"{_km(a).replace('-', '−')} to {_km(b).replace('-', '−')}"
+    return f"{_km(a)}–{_km(b)}"
+
+
 def depth_sentences(ctx, budget_ran: bool | None = None) -> list[str]:
     """Plain-language sentences with numbers, one per phase, plus the budget from the inclusions.
 
@@ -45,13 +52,13 @@ def depth_sentences(ctx, budget_ran: bool | None = None) -> list[str]:
     vent = crust.vent_elevation_m
     for r in ctx.comparison.table.itertuples():
         s = (f"Inclusions from {r.phase} ({r.n_inclusions}) record {r.storage_p5_mpa:.0f}–{r.storage_p95_mpa:.0f} MPa "
-             f"(5–95 %, median {r.storage_p50_mpa:.0f} MPa), {_km(r.storage_p5_m)}–{_km(r.storage_p95_m)} km below "
-             f"sea level ({_km(r.storage_p5_m + vent)}–{_km(r.storage_p95_m + vent)} km below the vent)")
+             f"(5–95 %, median {r.storage_p50_mpa:.0f} MPa), {_km_range(r.storage_p5_m, r.storage_p95_m)} km below "
+             f"sea level ({_km_range(r.storage_p5_m + vent, r.storage_p95_m + vent)} km below the vent)")
         if np.isfinite(r.vt_p5_m):
             rel = ("inside" if r.storage_p5_m >= r.vt_p5_m and r.storage_p95_m <= r.vt_p95_m else
                    "deeper than" if r.storage_p5_m > r.vt_p95_m else
                    "shallower than" if r.storage_p95_m < r.vt_p5_m else "partly inside")
-            s += (f", {rel} the VT 5–95 % depth range of that phase ({_km(r.vt_p5_m)}–{_km(r.vt_p95_m)} km, "
+            s += (f", {rel} the VT 5–95 % depth range of that phase ({_km_range(r.vt_p5_m, r.vt_p95_m)} km, "
                   f"{r.n_vt} located VT events); {r.overlap_share:.0%} of the inclusions' 95 % depth intervals "
                   "overlap it.")
         else:
