@@ -545,9 +545,14 @@ __all__ = ["Archive", "AddOutcome", "FileReport", "SeriesEntry", "conform", "ent
 
 def _source_key(sha: str, options: ReadOptions | None, sources: dict) -> str:
     """Manifest key of an ingest: the file's SHA-256, or SHA-256#column when ``--value-col`` asks for a
-    column that an earlier ingest of the same file did not read (so a second column is not refused)."""
+    column that an earlier ingest of the same file did not read (so a second column is not refused), or
+    SHA-256#sheet=NAME when ``--sheet`` names a sheet of a workbook already read (rows read twice are
+    stored once)."""
     col = (options.columns or {}).get("value") if options is not None else None
     keys = [k for k in sources if k == sha or k.startswith(sha + "#")]
+    sheet = options.sheet if options is not None else None
+    if sheet is not None and keys:  # another sheet of a workbook read before is a new reading, not a repeat
+        return f"{sha}#sheet={str(sheet).strip()}" + (f"#{col}" if col else "")
     if not col or not keys:
         return sha
     for k in keys:

@@ -138,3 +138,27 @@ def test_forget_after_a_refused_conflict_removes_the_row(tmp_path):
     rep = forget(a, tmp_path / "a.csv")
     assert rep.removed == {sid: 3}
     assert Archive.open(a.root).load(sid).data["value"].tolist() == pytest.approx([130 / 86.4])
+
+
+def test_another_sheet_of_a_workbook_already_read_is_read(tmp_path):
+    # review: after reading the first sheet (the default), '--sheet 2023' or '--sheet all' was refused as
+    # "already in the archive (same SHA-256)" with exit code 0, so per-year workbooks could not be completed.
+    import pandas as pd
+
+    from degas.io.base import ReadOptions
+
+    wb = tmp_path / "flux.xlsx"
+    with pd.ExcelWriter(wb) as w:
+        pd.DataFrame({"time": pd.to_datetime(["2022-01-01", "2022-01-02"]), "SO2 flux (t/d)": [100, 110]}).to_excel(
+            w, sheet_name="2022", index=False)
+        pd.DataFrame({"time": pd.to_datetime(["2023-01-01", "2023-01-02"]), "SO2 flux (t/d)": [200, 210]}).to_excel(
+            w, sheet_name="2023", index=False)
+    a = Archive.create(tmp_path / "arc")
+    assert a.ingest_file(wb).accepted == 2
+    second = a.ingest_file(wb, ReadOptions(sheet="2023"))
+    assert not second.skipped and second.accepted == 2
+    assert a.ingest_file(wb, ReadOptions(sheet="2023")).skipped  # the same sheet again adds nothing
+    both = a.ingest_file(wb, ReadOptions(sheet="all"))
+    assert not both.skipped
+    (sid,) = [e.series_id for e in a.entries()]
+    assert len(a.load(sid).data) == 4  # rows read twice are stored once
