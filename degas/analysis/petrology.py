@@ -365,6 +365,10 @@ def storage_depths(mi: MeltInclusions, *, model: str = "Liu", temperature_c: flo
         lo, hi = (tr, tr) if np.isscalar(tr) else tr
         t_lo[i], t_hi[i] = float(lo), float(hi)
     t_mid = 0.5 * (t_lo + t_hi)
+    unused = sorted(set(phase_temperatures or {}) - set(phases))
+    if unused:
+        notes.append(f"phase temperature(s) for {', '.join(map(repr, unused))} match no phase of the inclusions "
+                     f"(phases: {', '.join(map(repr, pd.unique(phases)))}); the general temperature was used")
     hd = np.clip(rng.normal(h[:, None], hs[:, None], (n, n_draws)), 0, None)
     cd = np.clip(rng.normal(c[:, None], cs[:, None], (n, n_draws)), 0, None)
     td = rng.uniform(t_lo[:, None], t_hi[:, None], (n, n_draws))

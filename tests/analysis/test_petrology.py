@@ -313,3 +313,12 @@ def test_liu_retrograde_solubility_at_one_atmosphere_matches_experiments():
     slope_per_100c = np.polyfit(t_c, h, 1)[0] * 100
     assert slope_per_100c == pytest.approx(-7.1e-3, rel=0.10)
     assert np.all(np.diff(h) < 0)  # retrograde: less H2O dissolves at higher temperature at 1 atm
+
+
+def test_phase_temperature_for_an_unknown_phase_is_noted():
+    # review: a misspelt phase in phase_temperatures_c was ignored without a word
+    rows = [{"time": "2024-01-01", "phase": "alpha", "analysis_id": "a", "analysis_type": "inclusion",
+             "h2o_frac": 0.04, "co2_frac": 100e-6}]
+    res = P.storage_depths(_mi(rows), temperature_c=850.0, phase_temperatures={"alpah": 950.0}, n_draws=20)
+    assert any("'alpah' match no phase" in n and "'alpha'" in n for n in res.notes)
+    assert res.inclusions["temperature_c"].iloc[0] == 850.0
