@@ -174,6 +174,11 @@ def test_csv_depth_sign(positive, expected):
     assert any("negative depth read as above the datum" in n for n in res.notes)
     if positive == "up":
         assert any("--depth-positive up" in n and "sign flipped" in n for n in res.notes)
+        # review: after the flip the note still advised "use --depth-positive up", the option just given
+        neg = next(n for n in res.notes if "negative depth" in n)
+        assert "use --depth-positive up" not in neg
+    else:
+        assert any("negative depth" in n and "use --depth-positive up" in n for n in res.notes)
 
 
 def test_approximate_dates_in_a_series(write):
