@@ -565,7 +565,13 @@ def _source_key(sha: str, options: ReadOptions | None, sources: dict) -> str:
 def _key_strings(df: pd.DataFrame, rtype: str) -> list[str]:
     """Row keys as text (the archive's merge keys), for recording and matching contributed rows."""
     kf = _key_frame(df, _KEYS[rtype])
-    return kf.astype(str).agg("|".join, axis=1).tolist() if len(kf) else []
+    if not len(kf):
+        return []
+    cols = [kf[c].astype(str) for c in kf.columns]  # column-wise (a row-wise join took ~10 s per 200k rows)
+    out = cols[0]
+    for c in cols[1:]:
+        out = out + "|" + c
+    return out.tolist()
 
 
 def _supplied_keys(new: pd.DataFrame, old: pd.DataFrame | None, merged: pd.DataFrame,
