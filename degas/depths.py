@@ -62,10 +62,13 @@ def depth_context(archive: Archive, project: Project, catalog_id: str | None = N
     catalog = archive.load(catalog_id) if catalog_id else None
     if catalog is not None:
         catalog = P.to_sea_level_depths(catalog, s.hypocentre_datum, s.vent_elevation_m)
-    if chronology_id is None:
-        chrons = archive.find(kind="chronology")
-        chronology_id = chrons[0].series_id if chrons else None
-    chron = archive.load(chronology_id) if chronology_id else None
+    if chronology_id is None:  # every stored chronology (one per vent/location): a phase may be at any of them
+        import pandas as pd
+
+        loaded = [archive.load(e.series_id) for e in archive.find(kind="chronology")]
+        chron = loaded[0].with_data(pd.concat([c.data for c in loaded], ignore_index=True)) if loaded else None
+    else:
+        chron = archive.load(chronology_id)
     windows = P.phase_windows(mi, chron)
     comparison = P.compare_with_seismicity(storage, catalog, windows)
     by_regime = None

@@ -332,10 +332,19 @@ def storage_depths(mi: MeltInclusions, *, model: str = "Liu", temperature_c: flo
     crust = crust or CrustModel()
     d = mi.data
     d = d[d["analysis_type"].isin(["inclusion", "embayment"])]
-    d = d[d["h2o_frac"].notna() | d["co2_frac"].notna()].reset_index(drop=True)
-    if d.empty:
-        raise NotEnoughDataError("no inclusion or embayment with H2O or CO2 to compute a saturation pressure")
     notes: list[str] = []
+    # H2O is needed: with CO2 alone the pure-CO2 pressure is far too low, not a usable minimum.
+    n_no_h2o = int((d["h2o_frac"].isna() & d["co2_frac"].notna()).sum())
+    if n_no_h2o:
+        notes.append(f"{n_no_h2o} inclusion(s)/embayment(s) with CO2 but no H2O: no saturation pressure computed "
+                     "(a missing H2O is not zero)")
+    d = d[d["h2o_frac"].notna()].reset_index(drop=True)
+    if d.empty:
+        raise NotEnoughDataError("no inclusion or embayment with H2O to compute a saturation pressure")
+    n_no_co2 = int(d["co2_frac"].isna().sum())
+    if n_no_co2:
+        notes.append(f"{n_no_co2} inclusion(s)/embayment(s) without CO2: CO2 taken as 0, so their pressure is the "
+                     "pure-H2O saturation pressure (a minimum)")
     rng = np.random.default_rng(seed)
     n = len(d)
     h = d["h2o_frac"].fillna(0.0).to_numpy() * 100
@@ -356,6 +365,10 @@ def storage_depths(mi: MeltInclusions, *, model: str = "Liu", temperature_c: flo
         lo, hi = (tr, tr) if np.isscalar(tr) else tr
         t_lo[i], t_hi[i] = float(lo), float(hi)
     t_mid = 0.5 * (t_lo + t_hi)
+    unused = sorted(set(phase_temperatures or {}) - set(phases))
+    if unused:
+        notes.append(f"phase temperature(s) for {', '.join(map(repr, unused))} match no phase of the inclusions "
+                     f"(phases: {', '.join(map(repr, pd.unique(phases)))}); the general temperature was used")
     hd = np.clip(rng.normal(h[:, None], hs[:, None], (n, n_draws)), 0, None)
     cd = np.clip(rng.normal(c[:, None], cs[:, None], (n, n_draws)), 0, None)
     td = rng.uniform(t_lo[:, None], t_hi[:, None], (n, n_draws))
@@ -368,6 +381,8 @@ def storage_depths(mi: MeltInclusions, *, model: str = "Liu", temperature_c: flo
         pd_ = np.vstack([_per_row(model, hd[i, :k], cd[i, :k], td[i, :k], d.iloc[[i] * k]) for i in range(n)])
         x_c = np.full(n, np.nan)
         notes.append(f"{model} (VESIcal) is slow: {k} Monte Carlo draws per inclusion")
+    if model == "Liu":
+        notes.extend(_liu_calibration_notes(p_c, t_lo, t_hi, d))
     n_nan = int(np.isnan(p_c).sum())
     if n_nan:
         notes.append(f"{n_nan} inclusion(s) outside the model's range (no saturation pressure)")
@@ -417,6 +432,35 @@ def storage_depths(mi: MeltInclusions, *, model: str = "Liu", temperature_c: flo
                  "diffusion lowers them)")
     return StorageResult(rows, pd.DataFrame(phase_rows), draws, model,
                          (float(np.min(t_lo)), float(np.max(t_hi))), crust, n_draws, seed, alt_model, tuple(notes))
+
+
+#: Calibrated range of Liu et al. (2005): 0-500 MPa, 700-1200 °C, rhyolitic melts (the ranges VESIcal's
+#: calibration checks state for its Liu model, Iacovino et al. 2021).
+LIU_RANGE = {"pressure_mpa": (0.0, 500.0), "temperature_c": (700.0, 1200.0)}
+#: SiO2 below which a melt is not rhyolitic (wt%, anhydrous; TAS rhyolite field starts near 69-72 wt%; a
+#: permissive bound, common practice).
+LIU_MIN_SIO2_WT_PCT = 68.0
+
+
+def _liu_calibration_notes(p_mpa, t_lo, t_hi, d: pd.DataFrame) -> list[str]:
+    """Notes when inclusions fall outside the Liu et al. (2005) calibration (pressure, temperature, melt)."""
+    out = []
+    (_p0, p1), (t0, t1) = LIU_RANGE["pressure_mpa"], LIU_RANGE["temperature_c"]
+    if np.min(t_lo) < t0 or np.max(t_hi) > t1:
+        out.append(f"temperatures {np.min(t_lo):g}-{np.max(t_hi):g} °C reach outside the Liu et al. (2005) "
+                   f"calibration ({t0:g}-{t1:g} °C): pressures are extrapolated")
+    n_hi = int(np.sum(np.asarray(p_mpa) > p1))
+    if n_hi:
+        out.append(f"{n_hi} inclusion(s) above {p1:g} MPa, beyond the Liu et al. (2005) calibration: extrapolated")
+    if "sio2_frac" in d:
+        sio2 = d["sio2_frac"].to_numpy(dtype=float) * 100
+        tot = d["oxide_total_frac"].to_numpy(dtype=float) * 100 if "oxide_total_frac" in d else np.full(len(d), 100.)
+        anhydrous = np.where(np.isfinite(tot) & (tot > 0), sio2 / tot * 100, sio2)
+        n_mafic = int(np.sum(anhydrous < LIU_MIN_SIO2_WT_PCT))
+        if n_mafic:
+            out.append(f"{n_mafic} inclusion(s) with SiO2 below {LIU_MIN_SIO2_WT_PCT:g} wt% (anhydrous): not "
+                       "rhyolitic, outside the Liu et al. (2005) calibration; choose a model for that melt")
+    return out
 
 
 def _per_row(model: str, h, c, t, d: pd.DataFrame) -> np.ndarray:
@@ -539,15 +583,21 @@ def _through_time(vt: pd.DataFrame, step: str = "30D", min_events: int = 5) -> p
 
 def phase_windows(mi: MeltInclusions, chronology=None, pad: pd.Timedelta = pd.Timedelta("30D")) -> dict:
     """Time window of each inclusion phase: the eruptive interval of the chronology that holds its dates, or
-    the span of its dates padded by ``pad`` on both sides. Phases without dates get no window."""
+    the span of its dates padded by ``pad`` on both sides. Phases without dates get no window.
+
+    Only chronology rows with state "eruptive" and a duration count: a point event (end = start, e.g. an
+    explosion) or a pause/unknown interval is not the phase the inclusions erupted in."""
     out = {}
     d = mi.data
+    c = None
+    if chronology is not None:
+        c = chronology.data
+        c = c[(c["state"] == "eruptive") & (c["end"].isna() | (c["end"] > c["start"]))]
     for ph, grp in d.groupby(d["phase"].fillna("all").astype(str)):
         t = grp["time"].dropna()
         if t.empty:
             continue
-        if chronology is not None:
-            c = chronology.data
+        if c is not None:
             hit = c[(c["start"] <= t.min()) & (c["end"].fillna(pd.Timestamp.max.tz_localize("UTC")) >= t.max())]
             if not hit.empty:
                 out[ph] = (hit["start"].iloc[0], hit["end"].iloc[0] if pd.notna(hit["end"].iloc[0]) else t.max() + pad)

@@ -52,6 +52,7 @@ def apply_depth_sign(depth_m: np.ndarray, positive: str | None, assumptions: lis
         depth_m = -depth_m
     neg = int(np.sum(depth_m < 0))
     if neg:
-        assumptions.append(f"{neg} event(s) with a negative depth read as above the datum (e.g. above sea level); "
-                           "if the file counts heights, use --depth-positive up")
+        hint = ("" if positive == "up" else "; if the file counts heights, use --depth-positive up")
+        assumptions.append(f"{neg} event(s) with a negative depth read as above the datum (e.g. above sea "
+                           f"level){hint}")
     return depth_m

@@ -225,8 +225,8 @@ INCLUSION_VOLATILE_WORDS: dict[str, tuple[str, ...]] = {
     "cl": ("cl", "chlorine"),
 }
 #: Words that mark a 1-sigma column ("H2O 1σ", "co2_sd", "S err").
-SIGMA_WORDS = ("sd", "1sd", "1 sd", "sigma", "1 sigma", "1sigma", "1σ", "σ", "err", "error", "unc", "uncertainty",
-               "±", "+/-", "stdev", "std", "s d")
+SIGMA_WORDS = ("sd", "1sd", "1 sd", "2sd", "2sigma", "sigma", "1 sigma", "1sigma", "1σ", "σ", "err", "error", "unc",
+               "uncertainty", "±", "+/-", "stdev", "std", "s d")
 
 
 def inclusion_column(header: Header) -> tuple[str, str] | None:
@@ -251,3 +251,23 @@ def inclusion_column(header: Header) -> tuple[str, str] | None:
     if core in oxide_names and not sigma:
         return "oxide", oxide_names[core]
     return None
+
+
+_INCLUSION_UNIT_TAIL = re.compile(r"\s+(wt\s*\.?\s*%|ppm|mg/kg|[µu]g/g)$")
+
+
+def split_inclusion_header(raw: str) -> Header:
+    """:func:`split_header`, also taking a bare trailing unit of analyses ("H2O wt%", "CO2 mg/kg", "S µg/g")."""
+    h = split_header(raw)
+    if h.unit is None:
+        m = _INCLUSION_UNIT_TAIL.search(h.name)
+        if m and m.start() > 0:
+            unit = re.sub(r"\s+", "", m.group(1)).replace("wt.%", "wt%")
+            return Header(h.raw, h.name[: m.start()].strip(), unit, h.tags)
+    return h
+
+
+def sigma_multiple(header: Header) -> int:
+    """2 when a 1-sigma-like header says 2 sigma ("H2O 2σ", "CO2 2sd", "S (2 s.d.)"), else 1."""
+    text = " ".join((header.name.replace("σ", " σ"), *header.tags))
+    return 2 if re.search(r"(?<![\d.])2\s*(σ|sigma|sd|s\s*d|s\.d\.|se|stdev|std)\b|(?<![\d.])2\s*σ", text) else 1

@@ -24,7 +24,8 @@ import pandas as pd
 from degas.chem import S_PER_SO3
 from degas.errors import InputError, UnitError
 from degas.io.base import ReadOptions, ReadResult, make_provenance, rejects_frame
-from degas.io.columns import inclusion_column, split_header
+from degas.io.columns import inclusion_column, sigma_multiple
+from degas.io.columns import split_inclusion_header as split_header
 from degas.model import ANALYSIS_TYPES, INCLUSION_VOLATILES, OXIDES, MeltInclusions, SeriesMeta
 from degas.units import conversion_factor
 
@@ -85,6 +86,12 @@ def build_melt_inclusions(path: Path, raw, options: ReadOptions, reader: str) ->
             roles.setdefault(kind, col)
     roles.update({k: v for k, v in options.columns.items() if k in ("sample_id", "analysis_id", "phase", "time",
                                                                     "host", "analysis_type")})
+    if "analysis_type" not in roles:  # a column whose cells are analysis types ("MI", "matrix glass") by content
+        col = _type_column_by_content(frame, set(roles.values()) | set(vol_cols.values()) | set(sd_cols.values())
+                                      | set(ox_cols.values()) | {total_col})
+        if col is not None:
+            roles["analysis_type"] = col
+            assumptions.append(f"column {col!r} read as the analysis type (its cells name inclusions and glasses)")
     if not {"h2o", "co2", "s"} & set(vol_cols):
         raise InputError(source, f"no H2O, CO2 or S column found; columns are {list(frame.columns)}")
     if "time" not in roles and "phase" not in roles:
@@ -130,6 +137,9 @@ def build_melt_inclusions(path: Path, raw, options: ReadOptions, reader: str) ->
             vh = split_header(col) if col else None
             vunit = (options.units.get(vol) or vh.unit or (vh.tags[0] if vh.tags else None)) if vh else None
             fs = unit_factor(scol, vunit or DEFAULT_UNITS[vol], vol + "_sd")
+            if sigma_multiple(split_header(scol)) == 2:
+                fs /= 2
+                assumptions.append(f"column {scol!r} holds 2-sigma uncertainties; halved to 1-sigma")
             out[f"{vol}_sd_frac"] = numbers(scol, f"{vol.upper()} 1-sigma") * fs
     h2o = out["h2o_frac"]
     rej.reject(h2o > MAX_H2O_WT_PCT / 100, vol_cols.get("h2o"),
@@ -221,6 +231,20 @@ def build_melt_inclusions(path: Path, raw, options: ReadOptions, reader: str) ->
     prov = make_provenance(path, reader, len(df), len(rows), None, assumptions, options)
     notes.extend(f"{source}: {a}" for a in dict.fromkeys(assumptions))
     return ReadResult([MeltInclusions(df, meta, (prov,))], rejects_frame(rows), notes, [lines])
+
+
+def _type_column_by_content(frame: pd.DataFrame, used: set) -> str | None:
+    """The one unused text column whose filled cells are all analysis-type words (at least two distinct)."""
+    lookup = {w for ws in _TYPE_WORDS.values() for w in ws}
+    hits = []
+    for col in frame.columns:
+        if col in used:
+            continue
+        vals = frame[col].dropna().astype(str).str.strip().str.lower()
+        vals = vals[vals != ""]
+        if len(vals) and vals.isin(lookup).all() and vals.nunique() >= 2:
+            hits.append(col)
+    return hits[0] if len(hits) == 1 else None
 
 
 def _row_id(row: pd.Series) -> str:

@@ -553,6 +553,12 @@ def _times_parsed(raw: RawTable, col: str, options: ReadOptions, rej: _Rejects, 
         if not header_says_year(col):
             raise InputError(source, f"column {col!r} holds plain numbers; they look like years but the header "
                                      f"does not say so, and degas does not guess: {NUMERIC_TIME_HELP}", column=col)
+    if parsed.format in ("excel", "unix") and options.time_format is None:
+        from degas.io.timebase import NUMERIC_TIME_HELP, header_says_elapsed
+
+        if header_says_elapsed(col):  # "seconds" 20000-80000 are not Excel serial days
+            raise InputError(source, f"column {col!r} holds elapsed time counted from an origin the file does not "
+                                     f"give; degas does not guess it: {NUMERIC_TIME_HELP}", column=col)
     t = parsed.times
     if not t.isna().any():  # every cell parsed: nothing to explain
         return t, _merge_zone(parsed, extra)

@@ -58,6 +58,13 @@ def header_says_year(header: str) -> bool:
     return bool(re.search(r"year|\byr\b|decimal", header, re.I))
 
 
+def header_says_elapsed(header: str) -> bool:
+    """True when a header names elapsed time ("seconds", "hours", "days", "day number", "elapsed", "t (s)"):
+    such numbers count from an origin the file does not give, so their range must not pick a date format."""
+    return bool(re.search(r"\b(seconds?|secs?|hours?|hrs?|days?|minutes?|mins?|elapsed|since|"
+                          r"day\s*(number|no|count))\b|\((s|h|d|min)\)", header, re.I))
+
+
 def header_says_datenum(header: str) -> bool:
     return bool(re.search(r"datenum|matlab", header, re.I))
 

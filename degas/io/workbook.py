@@ -99,16 +99,21 @@ def load_workbook(path: Path, sheet: str | None = None):
         raise InputError(path.name, "every sheet is empty")
     first_name, (frame, lines, meta) = parts[0]
     frames, all_lines = [frame], [lines]
+    offset = int(lines.max()) if len(lines) else 0
+    shifts = []
     for name, (f, ln, m) in parts[1:]:
         if list(f.columns) != list(frame.columns):
             raise InputError(path.name, f"--sheet all: sheet {name!r} has columns {list(f.columns)}, sheet "
                                         f"{first_name!r} has {list(frame.columns)}; read the sheets one by one")
         frames.append(f)
-        all_lines.append(ln)
+        all_lines.append(ln + offset)  # numbered on after the previous sheet, so a reject row names one sheet
+        shifts.append(f"sheet {name!r} row N is row N+{offset}")
+        offset += int(ln.max()) if len(ln) else 0
         for k, v in m.items():
             meta.setdefault(k, v)
     if len(parts) > 1:
-        notes.append(f"{path.name}: reject row numbers are counted within each sheet")
+        notes.append(f"{path.name}: rows of the stacked sheets are numbered on, one sheet after the other "
+                     f"(sheet {first_name!r} as in the workbook; {'; '.join(shifts)})")
     frame = pd.concat(frames, ignore_index=True) if len(frames) > 1 else frame
     for c in frame.columns:
         col = frame[c]

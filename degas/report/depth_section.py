@@ -33,8 +33,17 @@ def _km(m: float) -> str:
     return "n/a" if not np.isfinite(m) else f"{m / 1000:.1f}"
 
 
-def depth_sentences(ctx) -> list[str]:
-    """Plain-language sentences with numbers, one per phase, plus the budget from the inclusions."""
+def _km_range(a: float, b: float) -> str:
+    """A depth range in km for a sentence; a negative depth (above the datum) with a true minus and "to"."""
+    if np.isfinite(a) and a < 0:
+        return f"{_km(a).replace('-', '−')} to {_km(b).replace('-', '−')}"
+    return f"{_km(a)}–{_km(b)}"
+
+
+def depth_sentences(ctx, budget_ran: bool | None = None) -> list[str]:
+    """Plain-language sentences with numbers, one per phase, plus the budget from the inclusions.
+
+    ``budget_ran`` : whether the run's gas budget ran (None: no run, e.g. ``degas depths``)."""
     out = []
     crust = ctx.storage.crust
     out.append(f"Depths are in km below sea level, the datum of the hypocentres (vent at "
@@ -43,13 +52,13 @@ def depth_sentences(ctx) -> list[str]:
     vent = crust.vent_elevation_m
     for r in ctx.comparison.table.itertuples():
         s = (f"Inclusions from {r.phase} ({r.n_inclusions}) record {r.storage_p5_mpa:.0f}–{r.storage_p95_mpa:.0f} MPa "
-             f"(5–95 %, median {r.storage_p50_mpa:.0f} MPa), {_km(r.storage_p5_m)}–{_km(r.storage_p95_m)} km below "
-             f"sea level ({_km(r.storage_p5_m + vent)}–{_km(r.storage_p95_m + vent)} km below the vent)")
+             f"(5–95 %, median {r.storage_p50_mpa:.0f} MPa), {_km_range(r.storage_p5_m, r.storage_p95_m)} km below "
+             f"sea level ({_km_range(r.storage_p5_m + vent, r.storage_p95_m + vent)} km below the vent)")
         if np.isfinite(r.vt_p5_m):
             rel = ("inside" if r.storage_p5_m >= r.vt_p5_m and r.storage_p95_m <= r.vt_p95_m else
                    "deeper than" if r.storage_p5_m > r.vt_p95_m else
                    "shallower than" if r.storage_p95_m < r.vt_p5_m else "partly inside")
-            s += (f", {rel} the VT 5–95 % depth range of that phase ({_km(r.vt_p5_m)}–{_km(r.vt_p95_m)} km, "
+            s += (f", {rel} the VT 5–95 % depth range of that phase ({_km_range(r.vt_p5_m, r.vt_p95_m)} km, "
                   f"{r.n_vt} located VT events); {r.overlap_share:.0%} of the inclusions' 95 % depth intervals "
                   "overlap it.")
         else:
@@ -65,8 +74,23 @@ def depth_sentences(ctx) -> list[str]:
         out.append(f"Petrological SO2 from the inclusions (Devine et al. 1984): {ctx.sulfur.so2_per_m3:.2f} kg per "
                    f"m³ DRE (95 % {lo:.2f}–{hi:.2f}; S {ctx.sulfur.s_mi_ppm:.0f} ppm in {ctx.sulfur.n_mi} "
                    f"inclusions, {ctx.sulfur.s_mg_ppm:.0f} ppm in {ctx.sulfur.n_mg} matrix-glass analyses), a "
-                   "minimum; the gas budget's observed/expected ratio uses these draws.")
+                   f"minimum; {_budget_use(ctx, budget_ran)}.")
     return out
+
+
+def _budget_use(ctx, budget_ran: bool | None) -> str:
+    """Whether the gas budget uses the inclusion draws, said truthfully."""
+    from degas.depths import inclusion_petrology
+
+    if not ctx.settings.budget_from_inclusions:
+        return "the gas budget does not use it (budget_from_inclusions = false in [inclusions])"
+    if inclusion_petrology(ctx) is None:
+        return "too small for the gas budget to use (no S lost between inclusions and matrix glass)"
+    if budget_ran is None:
+        return "a report's gas budget uses these draws for its observed/expected ratio"
+    if not budget_ran:
+        return "no gas budget was run here, so no observed/expected ratio uses it"
+    return "the gas budget's observed/expected ratio uses these draws"
 
 
 MODEL_LABELS = {"Liu": "Liu et al. (2005)", "Dixon": "Dixon (1997, via VESIcal)",
@@ -183,7 +207,8 @@ def add_depth_section(page, bundle) -> None:
     mi = None
     if bundle.archive is not None:
         mi = bundle.archive.load(ctx.series_id).data
-    parts = ['<ul class="summary">' + "".join(f"<li>{esc(s)}</li>" for s in depth_sentences(ctx)) + "</ul>"]
+    parts = ['<ul class="summary">' + "".join(f"<li>{esc(s)}</li>" for s in depth_sentences(
+        ctx, getattr(bundle, "budget", None) is not None)) + "</ul>"]
     parts.append(page.figure(isobar_figure(ctx, mi), "fig-isobars",
                              "Each point is one analysis; grey lines are isobars (fluid from pure CO2 to pure H2O). "
                              "Matrix glass sits near the origin: degassed."))

@@ -245,3 +245,80 @@ def test_vt_depths_by_regime_interval():
     res = P.vt_depths_by_interval(ec, iv).set_index("label")
     assert res.loc["coupled", "n_vt"] == 30 and res.loc["gas_only", "n_vt"] == 30
     assert res.loc["gas_only", "vt_p50_m"] == pytest.approx(np.median(z[20:50]))
+
+
+def test_missing_h2o_is_not_zero_and_missing_co2_is_noted():
+    # review: a CO2-only row used to get the pure-CO2 pressure (H2O NaN filled with 0), far too shallow.
+    rows = [{"time": "2024-01-01", "phase": "p", "analysis_id": "both", "analysis_type": "inclusion",
+             "h2o_frac": 0.05, "co2_frac": 500e-6},
+            {"time": "2024-01-01", "phase": "p", "analysis_id": "co2only", "analysis_type": "inclusion",
+             "co2_frac": 500e-6},
+            {"time": "2024-01-01", "phase": "p", "analysis_id": "h2oonly", "analysis_type": "inclusion",
+             "h2o_frac": 0.05}]
+    res = P.storage_depths(_mi(rows), temperature_c=850.0, n_draws=50, seed=0)
+    inc = res.inclusions.set_index("analysis_id")
+    assert "co2only" not in inc.index
+    assert any("CO2 but no H2O" in n for n in res.notes)
+    assert any("without CO2" in n and "minimum" in n for n in res.notes)
+    # the H2O-only row gets the pure-H2O pressure, below the mixed-fluid one
+    p_pure = P.liu_saturation_pressure(5.0, 0.0, 850.0)[0]
+    assert inc.loc["h2oonly", "pressure_mpa"] == pytest.approx(float(p_pure))
+    assert inc.loc["h2oonly", "pressure_mpa"] < inc.loc["both", "pressure_mpa"]
+    with pytest.raises(NotEnoughDataError):
+        P.storage_depths(_mi(rows[1:2]), n_draws=10)
+
+
+def test_phase_windows_ignore_point_events_and_pauses():
+    # review: an explosion (point event, end = start) on the eruption date gave a zero-length window (no VT
+    # events), and a pause holding the date was taken as the eruptive phase.
+    from degas.model import Chronology
+
+    ts = pd.Timestamp
+    chron = pd.DataFrame({
+        "start": [ts("2024-03-10", tz="UTC"), ts("2024-01-01", tz="UTC"), ts("2024-05-01", tz="UTC")],
+        "end": [ts("2024-03-10", tz="UTC"), ts("2024-04-01", tz="UTC"), ts("2024-12-01", tz="UTC")],
+        "state": ["eruptive", "eruptive", "pause"], "style": ["explosive", "effusive", "unknown"],
+        "note": ["", "", ""]})
+    ch = Chronology(chron, SeriesMeta(kind="chronology", quantity="state"))
+    rows = [{"time": "2024-03-10", "phase": "a", "analysis_id": "x", "analysis_type": "inclusion", "h2o_frac": 0.04},
+            {"time": "2024-06-15", "phase": "b", "analysis_id": "y", "analysis_type": "inclusion", "h2o_frac": 0.04}]
+    win = P.phase_windows(_mi(rows), ch)
+    assert win["a"] == (ts("2024-01-01", tz="UTC"), ts("2024-04-01", tz="UTC"))
+    assert win["b"] == (ts("2024-05-16", tz="UTC"), ts("2024-07-15", tz="UTC"))  # padded dates, not the pause
+
+
+def test_liu_calibration_range_is_noted():
+    # Liu et al. (2005) calibration 0-500 MPa, 700-1200 °C, rhyolite (ranges as VESIcal's calibration checks
+    # for its Liu model state, Iacovino et al. 2021); review: 1500 °C or a basaltic inclusion passed silently.
+    rows = [{"time": "2024-01-01", "phase": "p", "analysis_id": "rhy", "analysis_type": "inclusion",
+             "h2o_frac": 0.04, "co2_frac": 100e-6, "sio2_frac": 0.74, "oxide_total_frac": 0.96},
+            {"time": "2024-01-01", "phase": "p", "analysis_id": "bas", "analysis_type": "inclusion",
+             "h2o_frac": 0.02, "co2_frac": 100e-6, "sio2_frac": 0.49, "oxide_total_frac": 0.98},
+            {"time": "2024-01-01", "phase": "p", "analysis_id": "deep", "analysis_type": "inclusion",
+             "h2o_frac": 0.08, "co2_frac": 2500e-6}]
+    ok = P.storage_depths(_mi(rows[:1]), temperature_c=850.0, n_draws=20)
+    assert not any("calibration" in n for n in ok.notes)
+    res = P.storage_depths(_mi(rows), temperature_c=(900.0, 1500.0), n_draws=20)
+    text = " ".join(res.notes)
+    assert "700-1200 °C" in text and "1 inclusion(s) above 500 MPa" in text and "1 inclusion(s) with SiO2" in text
+
+
+def test_liu_retrograde_solubility_at_one_atmosphere_matches_experiments():
+    # Ryan, Russell, Nichols, Hess & Porritt (2015) Am. Mineral. 100, 774-786, abstract: 1-atm experiments on
+    # rhyolitic obsidian at 900-1100 °C give a retrograde H2O solubility of -7.1e-3 wt% per 100 °C
+    # (independent experiments, ten years after Liu et al. 2005). The Liu equations at 0.101325 MPa pure H2O
+    # give -7.07e-3 wt% per 100 °C over the same range.
+    t_c = np.array([900.0, 1000.0, 1100.0])
+    h, _ = P.liu_dissolved(0.101325, 0.0, t_c + 273.15)
+    slope_per_100c = np.polyfit(t_c, h, 1)[0] * 100
+    assert slope_per_100c == pytest.approx(-7.1e-3, rel=0.10)
+    assert np.all(np.diff(h) < 0)  # retrograde: less H2O dissolves at higher temperature at 1 atm
+
+
+def test_phase_temperature_for_an_unknown_phase_is_noted():
+    # review: a misspelt phase in phase_temperatures_c was ignored without a word
+    rows = [{"time": "2024-01-01", "phase": "alpha", "analysis_id": "a", "analysis_type": "inclusion",
+             "h2o_frac": 0.04, "co2_frac": 100e-6}]
+    res = P.storage_depths(_mi(rows), temperature_c=850.0, phase_temperatures={"alpah": 950.0}, n_draws=20)
+    assert any("'alpah' match no phase" in n and "'alpha'" in n for n in res.notes)
+    assert res.inclusions["temperature_c"].iloc[0] == 850.0

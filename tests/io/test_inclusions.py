@@ -109,3 +109,30 @@ def test_random_rows_give_inclusions_or_a_clean_error(write, rows):
         assert ((h >= 0) & (h <= 0.15)).all() and (d["co2_frac"].dropna() >= 0).all()
         assert d["analysis_type"].isin(["inclusion", "matrix_glass", "embayment"]).all()
         assert d["analysis_id"].is_unique
+
+
+def test_bare_unit_headers_and_two_sigma_columns(tmp_path):
+    # review: "H2O wt%" (unit without brackets) was not recognised, so H2O was silently dropped; "S wt%" must
+    # not be read as ppm; a 2-sigma column is halved to the 1-sigma the analysis uses.
+    f = tmp_path / "mi.csv"
+    f.write_text("Sample,Phase,Type,H2O wt%,H2O 2σ,CO2 mg/kg,CO2 2sd,S wt%,SiO2 wt%\n"
+                 "Q1,one,MI,4.0,0.4,500,60,0.03,75.0\n"
+                 "Q2,one,matrix glass,0.2,0.04,,,0.005,76.0\n", encoding="utf-8")
+    res = read(f, ReadOptions(kind="melt_inclusions"))
+    d = res.records[0].data
+    assert d["h2o_frac"].tolist() == pytest.approx([0.04, 0.002])
+    assert d["h2o_sd_frac"].tolist() == pytest.approx([0.002, 0.0002])
+    assert d["co2_frac"].iloc[0] == pytest.approx(500e-6) and d["co2_sd_frac"].iloc[0] == pytest.approx(30e-6)
+    assert d["s_frac"].tolist() == pytest.approx([300e-6, 50e-6])
+    assert d["sio2_frac"].iloc[0] == pytest.approx(0.75)
+    assert any("2-sigma" in n for n in res.notes)
+
+
+def test_analysis_type_column_found_by_its_cells(tmp_path):
+    # review: a header like "Analysis" was not recognised, so matrix glass was taken as melt inclusions
+    f = tmp_path / "mi.csv"
+    f.write_text("Sample,Phase,Analysis,H2O (wt%),CO2 (ppm),S (ppm)\n"
+                 "Q1,one,MI,4.0,500,300\nQ2,one,matrix glass,0.2,,50\nQ3,one,MI,4.2,520,310\n", encoding="utf-8")
+    res = read(f, ReadOptions(kind="melt_inclusions"))
+    assert res.records[0].data["analysis_type"].tolist() == ["inclusion", "matrix_glass", "inclusion"]
+    assert any("'Analysis' read as the analysis type" in n for n in res.notes)

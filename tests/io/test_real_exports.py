@@ -252,3 +252,22 @@ def test_uncertainty_columns_reach_the_aligned_table_the_budget_reads():
     q = _by_quantity(read(DATA / "flux_three_species.csv"))
     al = align({"so2": q["so2_flux"]}, "1D")
     assert al.frame["so2_uncertainty"].tolist() == pytest.approx([30 * T_D, 31 * T_D, 29 * T_D])
+
+
+def test_sheet_all_reject_rows_name_one_sheet(tmp_path):
+    # review: with --sheet all both sheets' rows were numbered from 2, so "rejected years.xlsx:3" could be
+    # either sheet; rows of later sheets are now numbered on, and a note gives the shift
+    import openpyxl
+
+    wb = openpyxl.Workbook()
+    wb.active.title = "2019"
+    wb.active.append(["Date", "SO2 flux (t/d)"])
+    wb.active.append([pd.Timestamp("2019-12-30").to_pydatetime(), 100.0])
+    wb.active.append([pd.Timestamp("2019-12-31").to_pydatetime(), "bad"])
+    ws = wb.create_sheet("2020")
+    ws.append(["Date", "SO2 flux (t/d)"])
+    ws.append([pd.Timestamp("2020-01-01").to_pydatetime(), "worse"])
+    wb.save(tmp_path / "years.xlsx")
+    res = read(tmp_path / "years.xlsx", ReadOptions(sheet="all", species="SO2"))
+    assert sorted(res.rejects["line"].tolist()) == [3, 5]  # 2019 row 3; 2020 row 2 -> 2 + 3
+    assert any("sheet '2020' row N is row N+3" in n for n in res.notes)

@@ -34,6 +34,18 @@ def test_small_numbers_are_never_guessed(write):
         read(write("d.csv", "day,SO2 flux (t/d)\n0,100\n1.5,120\n"))
 
 
+@pytest.mark.parametrize("header", ["seconds", "hours", "days", "day number"])
+def test_elapsed_counts_in_the_excel_range_are_not_read_as_dates(write, header):
+    # review: "seconds" 20000-27200 were read as Excel serial days (1954) with only a note
+    with pytest.raises(InputError, match=r"elapsed time .* --time-origin DATE --time-unit"):
+        read(write("s.csv", f"{header},SO2 flux (t/d)\n20000,100\n23600,110\n"))
+    (ts,) = read(write("s2.csv", "seconds,SO2 flux (t/d)\n20000,100\n"),
+                 ReadOptions(time_origin="2024-01-01", time_unit="s")).records
+    assert ts.data["time"].iloc[0] == pd.Timestamp("2024-01-01 05:33:20", tz="UTC")
+    (ex,) = read(write("e.csv", "date,SO2 flux (t/d)\n45292,100\n")).records  # a plain date header: Excel
+    assert ex.data["time"].iloc[0] == pd.Timestamp("2024-01-01", tz="UTC")
+
+
 def test_decimal_years_only_when_the_header_says_year(write):
     with pytest.raises(InputError, match="look like years but the header does not say so"):
         read(write("y.csv", "t,SO2 flux (t/d)\n2001.5,100\n2002.5,120\n"))
@@ -162,6 +174,11 @@ def test_csv_depth_sign(positive, expected):
     assert any("negative depth read as above the datum" in n for n in res.notes)
     if positive == "up":
         assert any("--depth-positive up" in n and "sign flipped" in n for n in res.notes)
+        # review: after the flip the note still advised "use --depth-positive up", the option just given
+        neg = next(n for n in res.notes if "negative depth" in n)
+        assert "use --depth-positive up" not in neg
+    else:
+        assert any("negative depth" in n and "use --depth-positive up" in n for n in res.notes)
 
 
 def test_approximate_dates_in_a_series(write):
