@@ -175,8 +175,9 @@ def test_second_writer_is_refused_while_one_holds_the_lock(write, tmp_path):
     fh = open(root / ".lock", "a+")
     fcntl.flock(fh, fcntl.LOCK_EX)
     try:
-        with pytest.raises(ArchiveError, match="another process"):
-            Archive.open(root).ingest_file(write("w1.csv", week("2024-01-01")))
+        # writers now wait for the lock (issue 10); past their timeout they are refused
+        with pytest.raises(ArchiveError, match="another process.*--lock-timeout"):
+            Archive.open(root, lock_timeout=0.2).ingest_file(write("w1.csv", week("2024-01-01")))
     finally:
         fcntl.flock(fh, fcntl.LOCK_UN)
         fh.close()
