@@ -12,7 +12,7 @@ from rich.console import Console
 from rich.progress import BarColumn, Progress, TextColumn, TimeElapsedColumn
 from rich.table import Table
 
-from degas.cli._app import app, console, err_console
+from degas.cli._app import app, console, err_console, os_error_line
 from degas.errors import DegasError
 from degas.io.base import ReadOptions
 from degas.io.mapping import load_mapping, load_toml, merge_options, options_from_dict
@@ -76,6 +76,8 @@ def ingest(
     accept_conflicts: bool = typer.Option(False, help="Let new values replace conflicting stored ones."),
     fmt: str | None = typer.Option(None, "--format", help="Force a reader (see 'degas formats')."),
     show_rejects: int = typer.Option(5, help="How many rejected rows to print per file."),
+    lock_timeout: float = typer.Option(60.0, "--lock-timeout", min=0.0, max=86400.0,
+                                       help="Seconds to wait while another process writes to the archive."),
 ) -> None:
     """Read monitoring exports into the archive (UTC, SI units, provenance); report every rejected row."""
     base = load_mapping(mapping) if mapping else ReadOptions()
@@ -87,7 +89,7 @@ def ingest(
         timezone=tz, dayfirst=dayfirst or None, time_format=time_format, vesicularity=vesicularity,
         bulk_density=bulk_density, dense_density=dense_density, allow_negative=allow_negative or None,
     )
-    archive = Archive.create(into)
+    archive = Archive.create(into, lock_timeout=lock_timeout)
     failed = 0
     for f in files:
         try:
@@ -95,6 +97,9 @@ def ingest(
         except DegasError as exc:
             failed += 1
             err_console.print(f"degas: error: {exc}", markup=False)
+        except OSError as exc:
+            failed += 1
+            err_console.print(f"degas: error: {os_error_line(exc)}", markup=False)
     if failed:
         err_console.print(f"degas: {failed} of {len(files)} file(s) not ingested; the archive keeps everything "
                           "stored before", markup=False)

@@ -62,6 +62,8 @@ def options_from_dict(d: dict, where: str = "mapping") -> ReadOptions:
         return ReadOptions(**clean)
     except TypeError as exc:
         raise ConfigError(f"{where}: {exc}") from None
+    except ConfigError as exc:  # a value out of its range (ReadOptions checks them)
+        raise ConfigError(f"{where}: {exc}") from None
 
 
 def load_toml(path: str | Path) -> dict:
