@@ -154,7 +154,7 @@ def classify_regimes(
         gas_baseline = float(gs["level"].min())
         notes.append(f"gas baseline = level of the lowest gas segment, {gas_baseline * KG_S_TO_T_D:.4g} t/d")
     if gas_baseline <= 0:
-        raise DegasError("the gas baseline must be positive (kg/s); pass gas_baseline=")
+        raise DegasError("the gas baseline must be positive; give a positive --gas-baseline (t/d)")
     t0 = max(gs["start"].min(), ms["start"].min())
     t1 = min(gs["end"].max(), ms["end"].max())
     if t1 <= t0:

@@ -108,6 +108,9 @@ def read(path: str | Path, options: ReadOptions | None = None, format: str | Non
     if options.kind is not None and options.kind not in fmt.kinds:
         raise InputError(path.name, f"looks like {fmt.name}, which cannot hold {options.kind} data (wrong file?)")
     result = fmt.read(path, options)
+    from degas.io.sanity import screen
+
+    result = screen(result, path.name)  # impossible magnitudes and time-axis outliers become rejects
     if options.kind is not None:
         wrong = [r.meta.kind for r in result.records if r.meta.kind != options.kind]
         if wrong:

@@ -363,7 +363,12 @@ def load_parquet(path: Path) -> RawTable:
             key = k.decode(errors="ignore").lower()
             if key.startswith("degas.") or key in ("station", "species", "vesicularity"):
                 meta[key.removeprefix("degas.")] = v.decode(errors="ignore")
-    frame = table.to_pandas()
+    try:
+        frame = table.to_pandas()
+    except Exception as exc:  # noqa: BLE001 - corrupt pandas metadata and the like: the file is refused in one line
+        text = " ".join(str(exc).split())[:200]
+        raise InputError(path.name, f"cannot convert the Parquet table ({type(exc).__name__}: {text})") from None
+    frame.columns = [str(c) for c in frame.columns]
     return RawTable(frame, list(frame.columns), np.arange(1, len(frame) + 1), meta, [], line_label="row")
 
 

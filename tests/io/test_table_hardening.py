@@ -90,3 +90,18 @@ def test_header_only_and_garbage_are_one_line_errors(write):
         with pytest.raises(DegasError) as ei:
             read(write("g.csv", content))
         assert "\n" not in str(ei.value)
+
+
+@pytest.mark.parametrize("pandas_meta", [b"{not json", b'{"columns": 5}', b'{"index_columns": [{"kind": "zz"}]}',
+                                         b'{"columns": [{"name": "x", "pandas_type": "nope", "metadata": 3}]}'])
+def test_parquet_with_corrupt_pandas_metadata_is_a_one_line_reject(tmp_path, pandas_meta):
+    import pyarrow as pa
+    import pyarrow.parquet as pq
+
+    table = pa.table({"time": pa.array(["2024-01-01T00:00Z"]), "SO2 flux (t/d)": pa.array([86.4])})
+    table = table.replace_schema_metadata({b"pandas": pandas_meta})
+    p = tmp_path / "f.parquet"
+    pq.write_table(table, p)
+    with pytest.raises(DegasError) as ei:
+        read(p)
+    assert "\n" not in str(ei.value) and "f.parquet: cannot convert the Parquet table" in str(ei.value)
