@@ -374,6 +374,16 @@ def load_parquet(path: Path) -> RawTable:
 
 # --------------------------------------------------------------------------- column plan
 
+MAX_VALUE_COLUMNS = 50  # series one file may create; a wider table is almost surely not meant column by column
+
+
+def _shown(names, limit: int = 12) -> str:
+    """Column names for a message: all of them when few, else the first ``limit`` and the count."""
+    names = list(names)
+    if len(names) <= limit:
+        return repr(names)
+    return repr(names[:limit])[:-1] + f", ... ({len(names):,} columns in all)]"
+
 
 @dataclass
 class Plan:
@@ -392,7 +402,7 @@ def plan_columns(raw: RawTable, options: ReadOptions, source: str) -> Plan:
     roles: dict[str, str] = {}
     for role, col in options.columns.items():
         if col not in raw.frame.columns:
-            raise InputError(source, f"mapped column {col!r} (for {role}) not found; columns are {list(hdrs)}")
+            raise InputError(source, f"mapped column {col!r} (for {role}) not found; columns are {_shown(hdrs)}")
         roles[role] = col
     taken = set(roles.values())
 
@@ -421,17 +431,17 @@ def plan_columns(raw: RawTable, options: ReadOptions, source: str) -> Plan:
         find("style")
         find("note")
         if "time" not in roles:
-            raise InputError(source, f"no start column for a chronology; columns are {list(hdrs)}")
+            raise InputError(source, f"no start column for a chronology; columns are {_shown(hdrs)}")
         if "state" not in roles and "style" not in roles:
             raise InputError(source, f"no state/activity or style column, so this is not an eruption chronology "
-                                     f"(wrong file or wrong --kind?); columns are {list(hdrs)}")
+                                     f"(wrong file or wrong --kind?); columns are {_shown(hdrs)}")
         return Plan("chronology", roles, [], {})
 
     find("time")
     if "time" not in roles:
         find("time", "start")
     if "time" not in roles:
-        raise InputError(source, f"no time column found; columns are {list(hdrs)} "
+        raise InputError(source, f"no time column found; columns are {_shown(hdrs)} "
                                  "(name one with --time-col or [columns] time = ... in a mapping file)")
     cat_roles = ("magnitude", "latitude", "longitude", "event_class", "magnitude_type", "event_id")
     looks_catalog = any(any(match_role(h, r) for r in ("magnitude", "latitude", "event_class"))
@@ -467,18 +477,22 @@ def plan_columns(raw: RawTable, options: ReadOptions, source: str) -> Plan:
         if kind is not None and len(value_cols) > 1:
             strict = [c for c in value_cols if guess_kind(hdrs[c]) == kind]
             value_cols = strict or value_cols
+    if len(value_cols) > MAX_VALUE_COLUMNS:
+        raise InputError(source, f"{len(value_cols):,} columns would each become a series (at most "
+                                 f"{MAX_VALUE_COLUMNS}); pick the value column with --value-col, or ingest a "
+                                 "file holding only the wanted columns")
     if not value_cols:
-        raise InputError(source, f"no value column recognised; columns are {list(hdrs)} "
+        raise InputError(source, f"no value column recognised; columns are {_shown(hdrs)} "
                                  "(say which with --value-col and --kind)")
     if kind is None:
         kinds = {guess_kind(hdrs[c]) for c in value_cols} - {None}
         if len(kinds) != 1:
-            raise InputError(source, f"cannot tell what kind of series this is (columns {value_cols}); "
+            raise InputError(source, f"cannot tell what kind of series this is (columns {_shown(value_cols)}); "
                                      f"pass --kind ({', '.join(SERIES_KINDS)})")
         kind = kinds.pop()
     if kind not in SERIES_KINDS:
         raise InputError(source, f"file looks like a {kind}-free series table but --kind {kind} was given; "
-                                 f"columns are {list(hdrs)}")
+                                 f"columns are {_shown(hdrs)}")
     unc_for: dict[str, str] = {}
     for v in value_cols:
         if len(value_cols) == 1 and unc_cols:

@@ -105,3 +105,24 @@ def test_parquet_with_corrupt_pandas_metadata_is_a_one_line_reject(tmp_path, pan
     with pytest.raises(DegasError) as ei:
         read(p)
     assert "\n" not in str(ei.value) and "f.parquet: cannot convert the Parquet table" in str(ei.value)
+
+
+def test_kind_given_for_a_wide_file_is_capped_with_advice(write):
+    from degas.io.base import ReadOptions
+
+    n = 1000
+    head = "time," + ",".join(f"ch{i}" for i in range(n)) + "\n"
+    row = "2024-01-01T00:00Z," + ",".join("1" for _ in range(n)) + "\n"
+    with pytest.raises(DegasError) as ei:
+        read(write("w.csv", head + row), ReadOptions(kind="amplitude"))
+    msg = str(ei.value)
+    assert "1,000 columns would each become a series" in msg and "--value-col" in msg and len(msg) < 400
+    res = read(write("w.csv", head + row), ReadOptions(kind="amplitude", columns={"value": "ch7"}))
+    assert len(res.records) == 1
+
+
+def test_messages_listing_columns_stay_short(write):
+    head = ",".join(f"c{i}" for i in range(5000)) + "\n"
+    with pytest.raises(DegasError) as ei:
+        read(write("w.csv", head + ",".join("x" for _ in range(5000)) + "\n"))
+    assert "(5,000 columns in all)" in str(ei.value) and len(str(ei.value)) < 500
