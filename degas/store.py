@@ -500,16 +500,38 @@ def _merge(old: pd.DataFrame, new: pd.DataFrame, rtype: str, sid: str, accept: b
             old = old.loc[keep_old]
         else:
             outcome.conflicts = int(conflict.sum())
+            show = _in_file_unit(record, rtype)
             for i in np.flatnonzero(conflict):
                 stored = old[comp[0]].iloc[pos[i]]
                 outcome.conflict_rows.append(
                     (src, None if lines is None else int(lines[i]), keys[0],
-                     f"conflicts with the stored value {stored} for {sid} "
-                                         "(kept out; --accept-conflicts to replace)", str(new[keys[0]].iloc[i])))
+                     f"conflicts with the stored value {show(stored)} for {sid} (this file: "
+                     f"{show(new[comp[0]].iloc[i])}; kept out; --accept-conflicts to replace)",
+                     str(new[keys[0]].iloc[i])))
     take = ~present | (conflict & accept)
     outcome.added = int((~present).sum())
     merged = pd.concat([old, new.loc[take]], ignore_index=True)
     return merged, outcome
+
+
+def _in_file_unit(record: Record, rtype: str):
+    """A formatter showing a stored (SI) value in the unit of the file being ingested, when known."""
+    unit = record.provenance[0].original_unit if record.provenance else None
+    factor = None
+    if rtype == "TimeSeries" and unit and record.meta.unit and unit != record.meta.unit:
+        from degas.units import conversion_factor
+
+        with contextlib.suppress(DegasError, ValueError, TypeError):
+            factor = conversion_factor(record.meta.unit, unit)
+    if factor is None:
+        unit = record.meta.unit if rtype == "TimeSeries" else None
+
+    def show(x) -> str:
+        if isinstance(x, float | np.floating) and np.isfinite(x):
+            return f"{x * (factor or 1.0):.6g}" + (f" {unit}" if unit else "")
+        return str(x)
+
+    return show
 
 
 def _key_frame(df: pd.DataFrame, keys: list[str]) -> pd.DataFrame:

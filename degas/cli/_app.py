@@ -26,7 +26,7 @@ def run(argv: list[str] | None = None) -> int:
         code = exc.code
         return code if isinstance(code, int) else (0 if code is None else 1)
     except DegasError as exc:
-        err_console.print(f"degas: error: {exc}", markup=False)
+        err_console.print(f"degas: error: {one_line(str(exc), 2000)}", markup=False)
         return 2
     except KeyboardInterrupt:
         err_console.print("degas: interrupted; the archive keeps its last completed write", markup=False)

@@ -12,7 +12,7 @@ from rich.console import Console
 from rich.progress import BarColumn, Progress, TextColumn, TimeElapsedColumn
 from rich.table import Table
 
-from degas.cli._app import app, console, err_console, os_error_line
+from degas.cli._app import app, console, err_console, one_line, os_error_line
 from degas.errors import DegasError
 from degas.io.base import ReadOptions
 from degas.io.mapping import load_mapping, load_toml, merge_options, options_from_dict
@@ -96,13 +96,14 @@ def ingest(
             ingest_files(archive, [(f, options, fmt)], accept_conflicts=accept_conflicts, show_rejects=show_rejects)
         except DegasError as exc:
             failed += 1
-            err_console.print(f"degas: error: {exc}", markup=False)
+            err_console.print(f"degas: error: {one_line(str(exc), 2000)}", markup=False)
         except OSError as exc:
             failed += 1
             err_console.print(f"degas: error: {os_error_line(exc)}", markup=False)
     if failed:
-        err_console.print(f"degas: {failed} of {len(files)} file(s) not ingested; the archive keeps everything "
-                          "stored before", markup=False)
+        if len(files) > 1:  # one file: its error line says it all (one line on stderr)
+            err_console.print(f"degas: {failed} of {len(files)} file(s) not ingested; the archive keeps everything "
+                              "stored before", markup=False)
         raise typer.Exit(2)
 
 
