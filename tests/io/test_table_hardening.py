@@ -47,7 +47,8 @@ def test_windows_1252_text_is_read_and_said(write):
 
 def test_invalid_utf8_far_beyond_the_sniffed_head_falls_back_without_noise(write, capfd):
     rows = "".join(f"2024-01-01T{h:02d}:{m:02d}Z,86.4\n" for h in range(24) for m in range(60))
-    text = ("time,SO2 flux (t/d)\n" + rows * 3).encode() + b"2024-01-05T00:00Z,8\xe9.4\n"
+    text = ("time,SO2 flux (t/d)\n" + rows * 3).encode() + b"2024-01-05T00:00Z,8\xe9.4\n" \
+        + b"2024-01-06T00:00Z,8\xe9,4,5\n"  # a malformed row holding the invalid byte (was "Exception ignored")
     assert len(text) > 64 * 1024
     with warnings.catch_warnings():
         warnings.simplefilter("error")
@@ -57,6 +58,7 @@ def test_invalid_utf8_far_beyond_the_sniffed_head_falls_back_without_noise(write
     assert len(res.records[0]) >= 1440
     rej = res.rejects.set_index("line")
     assert "not a number" in rej.loc[4322, "reason"]  # "8é.4", on its own line
+    assert "wrong number of fields" in rej.loc[4323, "reason"]
 
 
 def test_latin1_with_bytes_windows_1252_leaves_undefined(write):
