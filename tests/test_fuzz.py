@@ -1,7 +1,7 @@
 """Fuzzing the readers and the CLI with hostile files and options (issue 10; see tests/fuzzing.py).
 
-Derandomised, so every run replays the same cases: 1,600 through the Python reader and 600 through
-``degas ingest`` in-process (2,200 in all). tests/benchmarks/bench_fuzz.py runs 10,000 on demand.
+Derandomised, so every run replays the same cases: 1,500 through the Python reader and 500 through
+``degas ingest`` in-process (2,000 in all). tests/benchmarks/bench_fuzz.py runs 10,000 on demand.
 """
 
 from __future__ import annotations
@@ -15,8 +15,8 @@ from hypothesis import strategies as st
 
 from tests import fuzzing
 
-READER_CASES = int(os.environ.get("DEGAS_FUZZ_READER_CASES", 1600))
-CLI_CASES = int(os.environ.get("DEGAS_FUZZ_CLI_CASES", 600))
+READER_CASES = int(os.environ.get("DEGAS_FUZZ_READER_CASES", 1500))
+CLI_CASES = int(os.environ.get("DEGAS_FUZZ_CLI_CASES", 500))
 _SETTINGS = dict(derandomize=True, deadline=None, database=None, print_blob=True,
                  suppress_health_check=list(HealthCheck))
 
