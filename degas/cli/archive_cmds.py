@@ -21,7 +21,8 @@ from degas.store import Archive, FileReport, entry_display
 
 def _progress() -> Progress:
     return Progress(TextColumn("{task.description}"), BarColumn(), TextColumn("{task.completed}/{task.total}"),
-                    TimeElapsedColumn(), console=err_console, transient=True)
+                    TimeElapsedColumn(), console=err_console, transient=True,
+                    disable=not err_console.is_terminal)  # no stray blank line on a redirected stderr
 
 
 def _print_report(rep: FileReport, show_rejects: int) -> None:

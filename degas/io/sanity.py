@@ -96,12 +96,26 @@ def _bounds(rec: TimeSeries, lines, source: str, out: list) -> np.ndarray:
     v = rec.data["value"].to_numpy(dtype="float64")
     u = rec.data["uncertainty"].to_numpy(dtype="float64")
     bad = (np.abs(v) > bound) | np.isinf(v) | (np.abs(u) > bound) | np.isinf(u)
-    unit = rec.meta.unit or ""
+    unit, factor = _file_unit(rec)
     for i in np.flatnonzero(bad):
         out.append((source, _line(lines, i), "value",
-                    f"{v[i]:.4g} {unit} (or its uncertainty) exceeds the physical bound for {rec.meta.kind}, "
-                    f"{text} ({basis}); a typing or unit error?", f"{v[i]!r}"))
+                    f"{v[i] * factor:.4g} {unit} (or its uncertainty) exceeds the physical bound for {rec.meta.kind}, "
+                    f"{text} ({basis}); a typing or unit error?", f"{v[i] * factor!r}"))
     return ~bad
+
+
+def _file_unit(rec: TimeSeries) -> tuple[str, float]:
+    """The unit of the file (from the provenance) and the factor from the stored SI unit to it."""
+    from degas.errors import DegasError
+    from degas.units import conversion_factor
+
+    unit = rec.provenance[0].original_unit if rec.provenance else None
+    if unit and rec.meta.unit and unit != rec.meta.unit:
+        try:
+            return unit, conversion_factor(rec.meta.unit, unit)
+        except (DegasError, ValueError, TypeError):
+            pass
+    return rec.meta.unit or "", 1.0
 
 
 def _magnitudes(rec: EventCatalog, lines, source: str, out: list) -> np.ndarray:
