@@ -75,3 +75,16 @@ def test_mapping_values_out_of_range_name_the_file_and_key(write, tmp_path, caps
     m = write("m.toml", "vesicularity = 1.5\n")
     rc = run(["ingest", str(write("f.csv", FLUX)), "--into", str(tmp_path / "a"), "--map", str(m)])
     _one_line_error(capsys, rc, "m.toml", "vesicularity", "[0, 1)")
+
+
+@pytest.mark.parametrize("argv,fragment", [(["ingest"], "Missing argument"), (["nosuch"], "No such command"),
+                                           (["ingest", "x", "--into", "y", "--show-rejects", "abc"], "--show-rejects")])
+def test_command_line_mistakes_are_one_line(capsys, argv, fragment):
+    rc = run(argv)
+    err = _one_line_error(capsys, rc, fragment, "--help')")
+    assert len(err.splitlines()) == 1
+
+
+def test_help_still_prints(capsys):
+    assert run(["ingest", "--help"]) == 0
+    assert "--lock-timeout" in capsys.readouterr().out

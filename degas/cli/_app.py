@@ -21,10 +21,18 @@ err_console = Console(stderr=True, highlight=False, soft_wrap=True)
 def run(argv: list[str] | None = None) -> int:
     """Run the app; DegasError becomes a one-line message and exit code 2, never a traceback."""
     try:
-        app(args=argv, prog_name="degas")
+        code = app(args=argv, prog_name="degas", standalone_mode=False)
+        return code if isinstance(code, int) else 0
     except SystemExit as exc:
         code = exc.code
         return code if isinstance(code, int) else (0 if code is None else 1)
+    except _USAGE_ERROR as exc:  # a mistyped command line: one line, with where to look
+        if not exc.format_message().strip():  # no arguments: the help was shown
+            return 2
+        ctx = getattr(exc, "ctx", None)
+        where = f" (see '{ctx.command_path} --help')" if ctx is not None else " (see 'degas --help')"
+        err_console.print(f"degas: error: {one_line(exc.format_message())}{where}", markup=False)
+        return 2
     except DegasError as exc:
         err_console.print(f"degas: error: {one_line(str(exc), 2000)}", markup=False)
         return 2
@@ -39,6 +47,11 @@ def run(argv: list[str] | None = None) -> int:
                           "this with the command that caused it", markup=False)
         return 3
     return 0
+
+
+# The usage-error class of the click that typer ships (typer.BadParameter derives from it); named through the
+# public typer.BadParameter so that no private module is imported.
+_USAGE_ERROR = typer.BadParameter.__mro__[1]
 
 
 def one_line(text: str, limit: int = 400) -> str:
