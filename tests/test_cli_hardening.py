@@ -88,3 +88,9 @@ def test_command_line_mistakes_are_one_line(capsys, argv, fragment):
 def test_help_still_prints(capsys):
     assert run(["ingest", "--help"]) == 0
     assert "--lock-timeout" in capsys.readouterr().out
+
+
+@pytest.mark.parametrize("opt", ["--surrogates", "--boot", "--window-surrogates"])
+def test_resampling_counts_on_the_command_line_are_bounded(capsys, opt):
+    rc = run(["couple", "nowhere", opt, "1000000000"])
+    _one_line_error(capsys, rc, opt, "100000")
