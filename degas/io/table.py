@@ -104,6 +104,7 @@ class RawTable:
 # of pyarrow reads them). NEL, U+2028/U+2029, form feed and vertical tab are characters inside a line.
 _EOL = re.compile(r"\r\n|\r|\n")
 _EOL_BYTES = re.compile(rb"\r\n|\r|\n")
+_NON_BLANK = re.compile(rb"\S")
 # bytes that Windows-1252 leaves undefined; a file holding any of them is read as Latin-1 instead
 _CP1252_UNDEFINED = (b"\x81", b"\x8d", b"\x8f", b"\x90", b"\x9d")
 
@@ -251,7 +252,7 @@ def load_delimited(path: Path) -> RawTable:
 
     try:
         # multi-threaded first; invalid rows carry no line number then, so such files are read again
-        if not data[body:].strip():  # a header and nothing else: the builders say "no data rows"
+        if _NON_BLANK.search(data, body) is None:  # a header and nothing else: the builders say "no data rows"
             table = pa.table({h: pa.array([], pa.string()) for h in header})
         else:
             table = _read(True)
