@@ -211,7 +211,6 @@ class Archive:
         root = Path(root)
         return cls(root, _read_manifest(root), lock_timeout)
 
-
     # ------------------------------------------------------------------ reading
 
     def entries(self) -> list[SeriesEntry]:
@@ -254,6 +253,8 @@ class Archive:
                 if attempt == _READ_RETRIES or not self._reload():
                     raise ArchiveError(f"{path}: stored file of {e.series_id} is missing; the archive is "
                                        "damaged") from None
+            except Exception as exc:  # noqa: BLE001 - a damaged Parquet file is one line
+                raise ArchiveError(f"{path}: stored file of {e.series_id} is unreadable ({_one_line(exc)})") from None
         try:
             df = conform(table.to_pandas(), e.record_type)
         except Exception as exc:  # noqa: BLE001 - any failure of a damaged file is one line

@@ -356,3 +356,16 @@ def test_readers_during_writes_never_see_a_missing_file(write, tmp_path):
     assert reader.returncode == 0, err.decode()[-2000:]
     assert int(out.split()[-1]) >= 5
     assert Archive.open(root).entries()[0].n_rows == 7 * 25
+
+
+def test_a_damaged_stored_file_is_a_one_line_error_and_is_left_alone(tmp_path, write):
+    root = tmp_path / "a"
+    arc = Archive.create(root)
+    arc.ingest_file(write("w1.csv", week("2024-01-01")))
+    f = root / arc.entries()[0].file
+    f.write_bytes(b"PAR1 garbage")
+    with pytest.raises(ArchiveError, match="unreadable"):
+        Archive.open(root).load(arc.entries()[0].series_id)
+    with pytest.raises(ArchiveError, match="unreadable.*nothing added"):
+        Archive.open(root).ingest_file(write("w2.csv", week("2024-01-08")))
+    assert f.read_bytes() == b"PAR1 garbage"
