@@ -293,7 +293,10 @@ class Archive:
                 continue
             path = self._path(f, f"rejects of {src.get('name')}")
             if path.exists():
-                frames.append(pd.read_csv(path, dtype=str, keep_default_na=False))
+                try:
+                    frames.append(pd.read_csv(path, dtype=str, keep_default_na=False))
+                except Exception as exc:  # noqa: BLE001 - a damaged rejects file is one line
+                    raise ArchiveError(f"{path}: stored rejects file is unreadable ({_one_line(exc)})") from None
         if not frames:
             return pd.DataFrame({c: pd.Series([], dtype=str) for c in REJECT_COLUMNS})
         return pd.concat(frames, ignore_index=True)
