@@ -64,3 +64,30 @@ def test_hostile_toml_files_are_one_line_errors(tmp_path, content, fragment):
     with pytest.raises(ConfigError) as e:
         load_toml(p)
     assert fragment in str(e.value) and "\n" not in str(e.value)
+
+
+def test_random_project_values_give_a_project_or_a_one_line_error():
+    from hypothesis import HealthCheck, given, settings
+    from hypothesis import strategies as st
+
+    from degas.project import _SECTIONS, Project
+    from tests.fuzzing import toml_value
+
+    sections = st.sampled_from(sorted(_SECTIONS))
+
+    @settings(max_examples=400, derandomize=True, deadline=None, database=None,
+              suppress_health_check=list(HealthCheck))
+    @given(st.lists(st.tuples(sections, st.data()), max_size=4), st.data())
+    def inner(items, data):
+        raw: dict = {}
+        for section, d in items:
+            key = d.draw(st.sampled_from(sorted(_SECTIONS[section]) + ["bogus"]))
+            raw.setdefault(section, {})[key] = d.draw(toml_value())
+        try:
+            p = project_from_dict(raw, "p.toml")
+        except ConfigError as exc:
+            assert "\n" not in str(exc) and str(exc).startswith("p.toml")
+        else:
+            assert isinstance(p, Project) and 0 <= p.surrogates <= 100_000 and p.seed >= 0
+
+    inner()
