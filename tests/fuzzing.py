@@ -2,9 +2,9 @@
 tests/benchmarks/bench_fuzz.py (on demand, ≥ 10,000 cases).
 
 Every case is a file (random bytes, or a table with random headers, cells, delimiters, line ends, encodings,
-preamble lines and byte damage, wide or long; an XML document; a Parquet file, sometimes with corrupt pandas
-metadata) plus random reader options (kind, station, time zone, time format, unit, a random TOML mapping).
-The promise checked:
+preamble lines and byte damage, wide or long; an XML document; FDSN event text; an .xlsx workbook; a Parquet
+file, sometimes with corrupt pandas metadata) plus random reader options (kind, station, time zone, time
+format, unit, a random TOML mapping). The promise checked:
 
 * the Python reader returns a ReadResult or raises DegasError, and prints nothing;
 * the CLI (``degas ingest``, run in-process through the same ``run(argv)`` the console script calls) exits
@@ -164,11 +164,55 @@ def parquet_bytes(draw) -> tuple[str, bytes]:
     return ".parquet", buf.getvalue()
 
 
+FDSN_HEADER = ("#EventID|Time|Latitude|Longitude|Depth/km|Author|Catalog|Contributor|ContributorID|MagType|"
+               "Magnitude|MagAuthor|EventLocationName|EventType")
+
+
+@st.composite
+def fdsn_bytes(draw) -> tuple[str, bytes]:
+    """FDSN event text: the standard header, then rows of random (often plausible) cells."""
+    rng = random.Random(draw(st.integers(0, 2**32 - 1)))
+    rows = []
+    for i in range(rng.randint(0, 12)):
+        cells = [f"ev{i}", rng.choice(["2024-01-01T00:00:00", _cell(rng)]), rng.choice(["1.2", _cell(rng)]),
+                 rng.choice(["102.3", _cell(rng)]), rng.choice(["3.0", _cell(rng)]), "A", "C", "C", "1",
+                 rng.choice(["ML", "Md", ""]), rng.choice(["1.5", "12", _cell(rng)]), "A", "Velmarra area",
+                 rng.choice(["earthquake", "volcanic eruption", _cell(rng)])]
+        k = len(cells) + rng.choice([0, 0, 0, -3, 2])
+        rows.append("|".join((cells + ["x"] * 3)[:k]))
+    text = rng.choice(EOLS).join([FDSN_HEADER, *rows]) + "\n"
+    data = text.encode(rng.choice(ENCODINGS[:12]), errors="replace")
+    if rng.random() < 0.2:
+        data = _damage(rng, data)
+    return rng.choice([".txt", ".fdsn", ".csv"]), data
+
+
+@st.composite
+def xlsx_bytes(draw) -> tuple[str, bytes]:
+    """A small workbook (openpyxl) with a random preamble, header and cells of mixed types."""
+    import datetime as dt
+
+    from openpyxl import Workbook
+
+    rng = random.Random(draw(st.integers(0, 2**32 - 1)))
+    wb = Workbook()
+    ws = wb.active
+    for _ in range(rng.choice([0, 0, 1, 2])):
+        ws.append([f"# station: {rng.choice(CELLS)}"])
+    ws.append(rng.sample(HEADERS, rng.randint(1, 4)))
+    for _ in range(rng.randint(0, 10)):
+        ws.append([rng.choice([dt.datetime(rng.randint(1900, 2100), 1, rng.randint(1, 28)), _cell(rng),
+                               rng.uniform(-1e3, 1e6), None, 1e300]) for _ in range(rng.randint(1, 5))])
+    buf = io.BytesIO()
+    wb.save(buf)
+    return ".xlsx", buf.getvalue()
+
+
 def random_file():
     return st.one_of(
         table_bytes(), table_bytes(), table_bytes(), table_bytes(), table_bytes(), table_bytes(),
         st.tuples(st.sampled_from([".csv", ".xlsx", ".bin", ".xml", ".parquet"]), st.binary(max_size=300)),
-        xml_bytes(), parquet_bytes(),
+        xml_bytes(), parquet_bytes(), fdsn_bytes(), xlsx_bytes(),
     )
 
 

@@ -109,11 +109,11 @@ def read(path: str | Path, options: ReadOptions | None = None, format: str | Non
         raise InputError(path.name, f"looks like {fmt.name}, which cannot hold {options.kind} data (wrong file?)")
     import numpy as np
 
-    with np.errstate(all="ignore"):  # overflow to inf / invalid to NaN: such cells are rejected row by row
-        result = fmt.read(path, options)
     from degas.io.sanity import screen
 
-    result = screen(result, path.name)  # impossible magnitudes and time-axis outliers become rejects
+    with np.errstate(all="ignore"):  # overflow to inf / invalid to NaN: such cells are rejected row by row
+        result = fmt.read(path, options)
+        result = screen(result, path.name)  # impossible magnitudes and time-axis outliers become rejects
     if options.kind is not None:
         wrong = [r.meta.kind for r in result.records if r.meta.kind != options.kind]
         if wrong:

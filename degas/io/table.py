@@ -339,6 +339,10 @@ def load_excel(path: Path, sheet: str | int | None = None) -> RawTable:
     header = [str(c).strip() if c is not None and not (isinstance(c, float) and np.isnan(c)) else ""
               for c in grid.iloc[header_row].tolist()]
     keep = [i for i, h in enumerate(header) if h]
+    names = [header[i] for i in keep]
+    if len(set(names)) != len(names):  # as for delimited text: a duplicate name cannot say which column is meant
+        dup = sorted({h for h in names if names.count(h) > 1})
+        raise InputError(path.name, f"duplicate column names {dup}", line=header_row + 1)
     frame = grid.iloc[header_row + 1:, keep].copy()
     frame.columns = [header[i] for i in keep]
     frame = frame.dropna(how="all")

@@ -128,3 +128,15 @@ def test_messages_listing_columns_stay_short(write):
     with pytest.raises(DegasError) as ei:
         read(write("w.csv", head + ",".join("x" for _ in range(5000)) + "\n"))
     assert "(5,000 columns in all)" in str(ei.value) and len(str(ei.value)) < 500
+
+
+def test_a_workbook_with_duplicate_header_names_is_a_one_line_error(tmp_path):
+    from openpyxl import Workbook
+
+    wb = Workbook()
+    wb.active.append(["time", "SO2 flux (t/d)", "time"])
+    wb.active.append(["2024-01-01", 86.4, "x"])
+    p = tmp_path / "d.xlsx"
+    wb.save(p)
+    with pytest.raises(DegasError, match="duplicate column names \\['time'\\]"):
+        read(p)
