@@ -94,3 +94,10 @@ def test_help_still_prints(capsys):
 def test_resampling_counts_on_the_command_line_are_bounded(capsys, opt):
     rc = run(["couple", "nowhere", opt, "1000000000"])
     _one_line_error(capsys, rc, opt, "100000")
+
+
+def test_a_degas_error_quoting_multi_line_library_text_is_one_line():
+    from degas.errors import InputError
+
+    e = InputError("f.xlsx", "cannot read times: Invalid value '<DatetimeArray>\n['NaT']\nLength: 1'", column="end")
+    assert str(e) == "f.xlsx [end]: cannot read times: Invalid value '<DatetimeArray> ['NaT'] Length: 1'"
