@@ -6,6 +6,11 @@ from __future__ import annotations
 class DegasError(Exception):
     """Base class of every error meant for the user; ``str()`` is one line."""
 
+    def __str__(self) -> str:
+        text = super().__str__()
+        # a library's multi-line text quoted inside a message still gives one line
+        return " ".join(text.split()) if ("\n" in text or "\r" in text) else text
+
 
 class InputError(DegasError):
     """A problem with an input file: names the file, the line (1-based) and the problem."""

@@ -40,6 +40,11 @@ class Grid:
         return self.step.total_seconds()
 
 
+# Largest grid laid: 10 million bins (19 years of 1-minute bins; about 300 MB of float64 work arrays per
+# series in the analyses). Larger grids come from a mistyped year or a step far too fine for the span.
+MAX_BINS = 10_000_000
+
+
 def to_timedelta(step: str | pd.Timedelta) -> pd.Timedelta:
     """Parse "1D", "10min", "7D", "6h" into a Timedelta; reject non-positive or calendar steps."""
     try:
@@ -57,9 +62,16 @@ def make_grid(start: pd.Timestamp, end: pd.Timestamp, step: str | pd.Timedelta) 
     start = pd.Timestamp(start).tz_convert("UTC") if pd.Timestamp(start).tzinfo else pd.Timestamp(start, tz="UTC")
     end = pd.Timestamp(end).tz_convert("UTC") if pd.Timestamp(end).tzinfo else pd.Timestamp(end, tz="UTC")
     epoch = pd.Timestamp(0, tz="UTC")
-    k0 = (start - epoch) // td
-    origin = epoch + k0 * td
-    n = int((end - origin) // td) + 1
+    try:
+        k0 = (start - epoch) // td
+        origin = epoch + k0 * td
+        n = int((end - origin) // td) + 1
+    except (OverflowError, ValueError, pd.errors.OutOfBoundsDatetime, pd.errors.OutOfBoundsTimedelta):
+        raise DegasError(f"cannot lay a grid from {start} to {end} with step {td}: the span is outside what "
+                         "nanosecond timestamps represent (a mistyped year?)") from None
+    if n > MAX_BINS:
+        raise DegasError(f"a grid from {start:%Y-%m-%d} to {end:%Y-%m-%d} with step {td} needs {n:,} bins, more "
+                         f"than {MAX_BINS:,}; choose a coarser step or a shorter episode (a mistyped year?)")
     return Grid(origin, td, max(n, 0))
 
 

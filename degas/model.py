@@ -149,9 +149,22 @@ class SeriesMeta:
 
     @property
     def series_id(self) -> str:
-        """Stable identifier used as the archive key: ``kind.quantity.station``."""
+        """Stable identifier used as the archive key: ``kind.quantity.station``.
+
+        Injective: a part that is already a safe name (letters, digits, ``_``, ``-``; at most
+        :data:`SLUG_MAX` characters) is kept as it is; any other part becomes a readable slug plus
+        ``~`` and a short SHA-256 of the original text, so ``VLM.N``, ``VLM N`` and ``VLM-N`` stay
+        three series. ``~`` never occurs in an unchanged part, so the two forms cannot meet; the
+        archive refuses the (2^-32) case of two originals with the same hash.
+        """
         parts = [self.kind, self.quantity, self.station or "all"]
         return ".".join(_slug(p) for p in parts)
+
+    @property
+    def legacy_series_id(self) -> str:
+        """The lossy id of archives written before ids were injective (read, never written)."""
+        parts = [self.kind, self.quantity, self.station or "all"]
+        return ".".join(_legacy_slug(p) for p in parts)
 
     def to_dict(self) -> dict:
         return dataclasses.asdict(self)
@@ -162,9 +175,24 @@ class SeriesMeta:
         return cls(**{k: v for k, v in d.items() if k in names})
 
 
-def _slug(text: str) -> str:
+SLUG_MAX = 64  # characters of readable slug kept in an id; file names stay far below NAME_MAX (255 bytes)
+_SAFE_PART = re.compile(r"[A-Za-z0-9_][A-Za-z0-9_-]*")
+
+
+def _legacy_slug(text: str) -> str:
     s = re.sub(r"[^A-Za-z0-9_-]+", "-", str(text)).strip("-")
     return s or "x"
+
+
+def _slug(text: str) -> str:
+    """``text`` itself when it is a safe name, else a readable slug + ``~`` + 8 hex digits of its SHA-256."""
+    import hashlib
+
+    text = str(text)
+    if len(text) <= SLUG_MAX and _SAFE_PART.fullmatch(text) and not text.endswith("-"):
+        return text
+    readable = _legacy_slug(text)[:SLUG_MAX].strip("-") or "x"
+    return f"{readable}~{hashlib.sha256(text.encode('utf-8', 'surrogatepass')).hexdigest()[:8]}"
 
 
 @dataclass(frozen=True)

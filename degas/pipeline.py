@@ -172,6 +172,9 @@ def run_all(archive: Archive, project: Project, *, mode: str = "weekly", before:
             fn()
         except DegasError as exc:
             b.skipped.append(f"{name}: not run: {exc}")
+        except Exception as exc:  # noqa: BLE001 - a library failing inside a step is recorded, never fatal
+            text = " ".join(str(exc).split())[:300]
+            b.skipped.append(f"{name}: not run: {type(exc).__name__} inside the analysis: {text}")
         b.timings.append((name, time.perf_counter() - t0))
 
     step("load and align", lambda: _align(archive, b))

@@ -274,6 +274,51 @@ _TYPES: dict[str, tuple[type, ...]] = {
 }
 
 
+# Bounds of project values (issue 10): each keeps the work of a run bounded and the value meaningful.
+# key -> (low, high); counts are resamplings (more than 100,000 adds nothing a report can show and runs for
+# hours), numbers must be finite. Durations are checked in check_bounds.
+_COUNT_MAX = 100_000
+_NUMBER_BOUNDS: dict[str, tuple[float, float]] = {
+    "surrogates": (0, _COUNT_MAX), "bootstrap": (0, _COUNT_MAX), "rolling_surrogates": (0, _COUNT_MAX),
+    "seed": (0, 2**32 - 1),
+    "window_days": (1, 3660), "baseline_days": (1, 36_600), "b_window_events": (1, 1_000_000),
+    "gas_factor": (1e-6, 1e6), "magma_threshold": (0, 1e7),
+    "ratio_low": (1e-9, 1e9), "ratio_high": (1e-9, 1e9),
+}
+_STEP_MIN = pd.Timedelta("1min")  # finest grid step: the finest sampling of the instruments degas reads
+_DURATION_MAX = pd.Timedelta(days=36_600)  # 100 years
+_LAGS_MAX = 100_000  # a lag window or rolling window at most this many grid steps long
+_PENALTY_BOUNDS = (1e-9, 1e9)
+
+
+def check_bounds(values: dict, where: str) -> None:
+    """ConfigError (one line naming the key and its valid range) for a value outside its bounds."""
+    import math
+
+    for k, (lo, hi) in _NUMBER_BOUNDS.items():
+        v = values.get(k)
+        if v is None:
+            continue
+        if not math.isfinite(v) or not lo <= v <= hi:
+            raise ConfigError(f"{where}: {k} = {v!r} is outside its valid range [{lo:g}, {hi:g}]")
+    pen = values.get("penalty")
+    if isinstance(pen, int | float) and not isinstance(pen, bool):
+        if not math.isfinite(pen) or not _PENALTY_BOUNDS[0] <= pen <= _PENALTY_BOUNDS[1]:
+            raise ConfigError(f"{where}: penalty = {pen!r} is outside its valid range "
+                              f"[{_PENALTY_BOUNDS[0]:g}, {_PENALTY_BOUNDS[1]:g}] (or give bic3, bic or mbic)")
+    step = pd.Timedelta(values.get("step", "1D"))
+    if not _STEP_MIN <= step <= pd.Timedelta(days=366):
+        raise ConfigError(f"{where}: step = {values['step']!r} is outside its valid range [1min, 366D]")
+    for k in ("max_lag", "rolling_window", "rolling_step", "rolling_max_lag", "min_segment", "max_gap"):
+        if k not in values:
+            continue
+        td = pd.Timedelta(values[k])
+        hi = min(_DURATION_MAX, step * _LAGS_MAX)
+        if not step <= td <= hi and not (k == "max_gap" and td <= hi):
+            raise ConfigError(f"{where}: {k} = {values[k]!r} is outside its valid range [the step ({step}), "
+                              f"{hi.days} days ({_LAGS_MAX:,} steps at most, 100 years at most)]")
+
+
 def project_from_dict(raw: dict, where: str = "project") -> Project:
     known = set(_SECTIONS) | {"petrology", "file", "inclusions", "budget", "thresholds", "coverage"}
     unknown = sorted(set(raw) - known)
@@ -311,7 +356,7 @@ def project_from_dict(raw: dict, where: str = "project") -> Project:
         if k in values:
             try:
                 ok = pd.Timedelta(values[k]) > pd.Timedelta(0)
-            except (ValueError, TypeError):
+            except (ValueError, TypeError, OverflowError):
                 ok = False
             if not ok:
                 raise ConfigError(f"{where}: {k} = {values[k]!r} is not a positive duration such as '1D' or '6h'")
@@ -355,6 +400,7 @@ def project_from_dict(raw: dict, where: str = "project") -> Project:
                 raise ConfigError(f"{where}: [[file]] #{i + 1} needs a path")
             options_from_dict(f, f"{where} [[file]] #{i + 1}")  # validates every reader option now
         values["files"] = tuple(dict(f) for f in raw["file"])
+    check_bounds(values, where)
     try:
         proj = Project(**values)
     except TypeError as exc:

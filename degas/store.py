@@ -15,6 +15,14 @@ Rules:
 * New rows append; a row with the same key as a stored one (time for series, start for a
   chronology, event id for a catalogue) and the same value is skipped; with another value it is
   a conflict, reported and kept out unless ``accept_conflicts`` lets the new value win.
+* Series are keyed on :attr:`SeriesMeta.series_id`, an injective encoding of (kind, quantity,
+  station); the original names stay in each entry's ``meta``. An ingest whose id meets a stored
+  series with other original names is refused; entries of older archives, keyed on the former
+  lossy id, are still found by their original names.
+* Every path in the manifest must resolve inside the archive root, and ``series/`` and
+  ``rejects/`` must not be links leading out of it; clean-up never follows a link.
+* Writers wait for the lock (``lock_timeout`` seconds); a reader that finds a file of its
+  generation gone re-reads the manifest and retries on the newer generation.
 * A write never touches existing files: new data go to new generation files, and the manifest is
   replaced atomically (temp file + fsync + rename) as the very last step. A crash or kill at any
   moment leaves the archive exactly as it was before the write; stray files of an unfinished
@@ -27,6 +35,7 @@ import contextlib
 import json
 import os
 import re
+import time
 from dataclasses import dataclass, field
 from pathlib import Path
 
@@ -49,6 +58,8 @@ from degas.model import (
 from degas.safecsv import protect_frame
 
 MANIFEST = "manifest.json"
+LOCK_TIMEOUT_S = 60.0  # default wait for another writer to finish
+_READ_RETRIES = 3  # re-reads of the manifest when a generation switch removed a file being read
 FORMAT_NAME = "degas-archive"
 FORMAT_VERSION = 1
 
@@ -171,46 +182,45 @@ class FileReport:
 class Archive:
     """An archive directory (see module docstring). Open with :meth:`open` or :meth:`create`."""
 
-    def __init__(self, root: Path, manifest: dict):
+    def __init__(self, root: Path, manifest: dict, lock_timeout: float = LOCK_TIMEOUT_S):
         self.root = Path(root)
         self._manifest = manifest
+        self.lock_timeout = lock_timeout
 
     # ------------------------------------------------------------------ opening
 
     @classmethod
-    def create(cls, root: str | Path) -> Archive:
-        """Create an empty archive (or open it when it already is one)."""
+    def create(cls, root: str | Path, lock_timeout: float = LOCK_TIMEOUT_S) -> Archive:
+        """Create an empty archive (or open it when it already is one).
+
+        Safe when several processes create the same new archive at once: the directory is made with
+        ``exist_ok`` and the manifest is written under the archive lock, so one creates and the
+        others open what it created.
+        """
         root = Path(root)
         if root.exists() and not root.is_dir():
             raise ArchiveError(f"{root}: is a file, not an archive directory")
         if (root / MANIFEST).exists():
-            return cls.open(root)
-        if root.exists() and any(root.iterdir()):
-            raise ArchiveError(f"{root}: directory exists, is not empty and holds no {MANIFEST}")
+            return cls.open(root, lock_timeout)
+        _refuse_foreign(root)
         root.mkdir(parents=True, exist_ok=True)
-        (root / "series").mkdir(exist_ok=True)
-        (root / "rejects").mkdir(exist_ok=True)
-        manifest = {"format": FORMAT_NAME, "version": FORMAT_VERSION, "generation": 0, "series": {}, "sources": {}}
-        _atomic_write_text(root / MANIFEST, json.dumps(manifest, indent=2))
-        return cls(root, manifest)
+        with _locked(root, lock_timeout):
+            if (root / MANIFEST).exists():  # another process created it meanwhile
+                return cls.open(root, lock_timeout)
+            _refuse_foreign(root)
+            _check_folders(root)
+            (root / "series").mkdir(exist_ok=True)
+            (root / "rejects").mkdir(exist_ok=True)
+            manifest = {"format": FORMAT_NAME, "version": FORMAT_VERSION, "generation": 0, "series": {},
+                        "sources": {}}
+            _atomic_write_text(root / MANIFEST, json.dumps(manifest, indent=2))
+        return cls(root, manifest, lock_timeout)
 
     @classmethod
-    def open(cls, root: str | Path) -> Archive:
+    def open(cls, root: str | Path, lock_timeout: float = LOCK_TIMEOUT_S) -> Archive:
         """Open an existing archive; ArchiveError when the directory is not one."""
         root = Path(root)
-        path = root / MANIFEST
-        if not path.exists():
-            raise ArchiveError(f"{root}: not a degas archive (no {MANIFEST}); "
-                               "create one with 'degas ingest ... --into'")
-        try:
-            manifest = json.loads(path.read_text())
-        except (OSError, json.JSONDecodeError) as exc:
-            raise ArchiveError(f"{path}: unreadable manifest ({exc})") from None
-        if manifest.get("format") != FORMAT_NAME:
-            raise ArchiveError(f"{path}: not a degas archive manifest")
-        if manifest.get("version", 0) > FORMAT_VERSION:
-            raise ArchiveError(f"{path}: archive format {manifest['version']} is newer than this degas understands")
-        return cls(root, manifest)
+        return cls(root, _read_manifest(root), lock_timeout)
 
     # ------------------------------------------------------------------ reading
 
@@ -228,9 +238,14 @@ class Archive:
                 and (station is None or e.meta.station == station)]
 
     def entry(self, series_id: str) -> SeriesEntry:
+        """The entry of ``series_id`` (an archive written before ids were injective also answers to the
+        new id of its lossy entries)."""
         try:
             return SeriesEntry.from_dict(self._manifest["series"][series_id])
         except KeyError:
+            for d in self._manifest["series"].values():
+                if SeriesMeta.from_dict(d["meta"]).series_id == series_id:
+                    return SeriesEntry.from_dict(d)
             known = ", ".join(sorted(self._manifest["series"])) or "(none)"
             raise ArchiveError(f"no series {series_id!r} in {self.root}; stored series: {known}") from None
 
@@ -238,10 +253,43 @@ class Archive:
         """The stored record of a series, in the canonical model."""
         import pyarrow.parquet as pq
 
-        e = self.entry(series_id)
-        table = pq.read_table(self.root / e.file)
-        df = conform(table.to_pandas(), e.record_type)
+        for attempt in range(_READ_RETRIES + 1):
+            e = self.entry(series_id)
+            path = self._path(e.file, e.series_id)
+            try:
+                table = pq.read_table(path)
+                break
+            except FileNotFoundError:
+                # a writer switched generations after we read the manifest: read the newer one
+                if attempt == _READ_RETRIES or not self._reload():
+                    raise ArchiveError(f"{path}: stored file of {e.series_id} is missing; the archive is "
+                                       "damaged") from None
+            except Exception as exc:  # noqa: BLE001 - a damaged Parquet file is one line
+                raise ArchiveError(f"{path}: stored file of {e.series_id} is unreadable ({_one_line(exc)})") from None
+        try:
+            df = conform(table.to_pandas(), e.record_type)
+        except Exception as exc:  # noqa: BLE001 - any failure of a damaged file is one line
+            raise ArchiveError(f"{path}: stored file of {e.series_id} is unreadable ({_one_line(exc)})") from None
         return _TYPES[e.record_type](df, e.meta, e.provenance)
+
+    def _reload(self) -> bool:
+        """Re-read the manifest from disk; True when it moved to another generation."""
+        old = self._manifest.get("generation")
+        self._manifest = _read_manifest(self.root)
+        return self._manifest.get("generation") != old
+
+    def _path(self, rel: object, what: str) -> Path:
+        """``root / rel`` for a path stored in the manifest; ArchiveError unless it stays inside the root."""
+        if not isinstance(rel, str) or not rel or Path(rel).is_absolute():
+            raise ArchiveError(f"{self.root / MANIFEST}: {what}: stored path {rel!r} is not a path inside the "
+                               "archive; refusing to use it")
+        p = self.root / rel
+        base = self.root.resolve()
+        resolved = p.resolve()
+        if not resolved.is_relative_to(base) or resolved.parent == base:
+            raise ArchiveError(f"{self.root / MANIFEST}: {what}: stored path {rel!r} leads outside the archive's "
+                               "series/ and rejects/ folders; refusing to use it")
+        return p
 
     def sources(self) -> dict[str, dict]:
         """Ingested files by SHA-256: name, time of ingest, rows accepted and rejected, series touched."""
@@ -252,8 +300,14 @@ class Archive:
         frames = []
         for src in self._manifest["sources"].values():
             f = src.get("rejects_file")
-            if f and (self.root / f).exists():
-                frames.append(pd.read_csv(self.root / f, dtype=str, keep_default_na=False))
+            if not f:
+                continue
+            path = self._path(f, f"rejects of {src.get('name')}")
+            if path.exists():
+                try:
+                    frames.append(pd.read_csv(path, dtype=str, keep_default_na=False))
+                except Exception as exc:  # noqa: BLE001 - a damaged rejects file is one line
+                    raise ArchiveError(f"{path}: stored rejects file is unreadable ({_one_line(exc)})") from None
         if not frames:
             return pd.DataFrame({c: pd.Series([], dtype=str) for c in REJECT_COLUMNS})
         return pd.concat(frames, ignore_index=True)
@@ -263,37 +317,30 @@ class Archive:
     @contextlib.contextmanager
     def _writing(self):
         """Exclusive write lock; stale files of an interrupted write are removed first."""
-        import fcntl
-
-        lock_path = self.root / ".lock"
-        fh = open(lock_path, "a+")
-        try:
-            try:
-                fcntl.flock(fh, fcntl.LOCK_EX | fcntl.LOCK_NB)
-            except BlockingIOError:
-                raise ArchiveError(f"{self.root}: another process is writing to this archive; "
-                                   "try again later") from None
+        with _locked(self.root, self.lock_timeout):
             # re-read the manifest under the lock: another writer may have committed meanwhile
-            self._manifest = json.loads((self.root / MANIFEST).read_text())
+            self._manifest = _read_manifest(self.root)
+            _check_folders(self.root)
+            for e in self._manifest["series"].values():
+                self._path(e.get("file"), f"series {e.get('series_id')}")
             self._remove_strays()
             yield
-        finally:
-            with contextlib.suppress(OSError):
-                fcntl.flock(fh, fcntl.LOCK_UN)
-            fh.close()
 
     def _remove_strays(self) -> None:
+        """Delete unreferenced files of an interrupted write; never follows a link, never enters a linked folder."""
         referenced = {e["file"] for e in self._manifest["series"].values()}
         referenced |= {s.get("rejects_file") for s in self._manifest["sources"].values()}
         referenced |= {s.get("contrib_file") for s in self._manifest["sources"].values()}
         for sub in ("series", "rejects", "contrib"):
             d = self.root / sub
+            if d.is_symlink():
+                continue  # checked by _check_folders; its contents are not ours to clean
             d.mkdir(exist_ok=True)
             for p in d.iterdir():
                 rel = f"{sub}/{p.name}"
-                if rel not in referenced:
+                if rel not in referenced and (p.is_symlink() or p.is_file()):
                     with contextlib.suppress(OSError):
-                        p.unlink()
+                        p.unlink()  # a link itself is removed, never its target
         for p in self.root.glob("*.tmp"):
             with contextlib.suppress(OSError):
                 p.unlink()
@@ -366,14 +413,19 @@ class Archive:
         import pyarrow.parquet as pq
 
         rtype = type(record).__name__
-        sid = record.meta.series_id
+        sid = self._key_for(record.meta, staged)
         outcome = AddOutcome(sid)
         new = conform(record.data, rtype)
         prev_entry = staged.get(sid) or self._manifest["series"].get(sid)
         if prev_entry is not None:
             if prev_entry["record_type"] != rtype:
                 raise ArchiveError(f"series {sid} holds {prev_entry['record_type']}, cannot add {rtype}")
-            old = conform(pq.read_table(self.root / prev_entry["file"]).to_pandas(), rtype)
+            prev_path = self._path(prev_entry["file"], f"series {sid}")
+            try:
+                old = conform(pq.read_table(prev_path).to_pandas(), rtype)
+            except Exception as exc:  # noqa: BLE001 - a damaged stored file is one line, and is left alone
+                raise ArchiveError(f"{prev_path}: stored file of {sid} is unreadable ({_one_line(exc)}); "
+                                   "nothing added") from None
             merged, outcome = _merge(old, new, rtype, sid, accept_conflicts, record, lines)
             provenance = [Provenance.from_dict(p) for p in prev_entry["provenance"]] + list(record.provenance)
             meta = SeriesMeta.from_dict(prev_entry["meta"])
@@ -419,8 +471,30 @@ class Archive:
         old_files = {self._manifest["series"][s]["file"] for s in staged if s in self._manifest["series"]}
         self._manifest = manifest
         for f in old_files:
-            with contextlib.suppress(OSError):
-                (self.root / f).unlink()
+            with contextlib.suppress(OSError, ArchiveError):
+                self._path(f, "replaced file").unlink()
+
+    def _key_for(self, meta: SeriesMeta, staged: dict) -> str:
+        """The archive key for a record's metadata; ArchiveError when it meets another stored series.
+
+        The key is ``meta.series_id`` (injective); an archive written before ids were injective keeps
+        its former key for a series whose original names match exactly.
+        """
+        sid = meta.series_id
+        names = (meta.kind, meta.quantity, meta.station)
+        stored = staged.get(sid) or self._manifest["series"].get(sid)
+        if stored is None:
+            legacy = meta.legacy_series_id
+            old = self._manifest["series"].get(legacy)
+            if legacy != sid and old is not None and _names(old) == names:
+                return legacy
+            return sid
+        if _names(stored) != names:
+            other = SeriesMeta.from_dict(stored["meta"])
+            raise ArchiveError(f"series id {sid} is already used by station {other.station!r} "
+                               f"({other.kind}, {other.quantity}); refusing to mix in station {meta.station!r} "
+                               "(ingest it under another --station)")
+        return sid
 
 
 def _merge(old: pd.DataFrame, new: pd.DataFrame, rtype: str, sid: str, accept: bool, record: Record,
@@ -454,16 +528,38 @@ def _merge(old: pd.DataFrame, new: pd.DataFrame, rtype: str, sid: str, accept: b
             old = old.loc[keep_old]
         else:
             outcome.conflicts = int(conflict.sum())
+            show = _in_file_unit(record, rtype)
             for i in np.flatnonzero(conflict):
                 stored = old[comp[0]].iloc[pos[i]]
                 outcome.conflict_rows.append(
                     (src, None if lines is None else int(lines[i]), keys[0],
-                     f"conflicts with the stored value {stored} for {sid} "
-                                         "(kept out; --accept-conflicts to replace)", str(new[keys[0]].iloc[i])))
+                     f"conflicts with the stored value {show(stored)} for {sid} (this file: "
+                     f"{show(new[comp[0]].iloc[i])}; kept out; --accept-conflicts to replace)",
+                     str(new[keys[0]].iloc[i])))
     take = ~present | (conflict & accept)
     outcome.added = int((~present).sum())
     merged = pd.concat([old, new.loc[take]], ignore_index=True)
     return merged, outcome
+
+
+def _in_file_unit(record: Record, rtype: str):
+    """A formatter showing a stored (SI) value in the unit of the file being ingested, when known."""
+    unit = record.provenance[0].original_unit if record.provenance else None
+    factor = None
+    if rtype == "TimeSeries" and unit and record.meta.unit and unit != record.meta.unit:
+        from degas.units import conversion_factor
+
+        with contextlib.suppress(DegasError, ValueError, TypeError):
+            factor = conversion_factor(record.meta.unit, unit)
+    if factor is None:
+        unit = record.meta.unit if rtype == "TimeSeries" else None
+
+    def show(x) -> str:
+        if isinstance(x, float | np.floating) and np.isfinite(x):
+            return f"{x * (factor or 1.0):.6g}" + (f" {unit}" if unit else "")
+        return str(x)
+
+    return show
 
 
 def _key_frame(df: pd.DataFrame, keys: list[str]) -> pd.DataFrame:
@@ -494,6 +590,16 @@ def _equal(a: np.ndarray, b: np.ndarray) -> np.ndarray:
         return ((sa == sb) | (sa.isna() & sb.isna())).to_numpy(dtype=bool)
 
 
+def _names(entry: dict) -> tuple:
+    m = entry.get("meta", {})
+    return (m.get("kind"), m.get("quantity"), m.get("station"))
+
+
+def _one_line(exc: BaseException) -> str:
+    text = " ".join(str(exc).split())
+    return f"{type(exc).__name__}: {text[:300]}" if text else type(exc).__name__
+
+
 def _largest_gap(t: pd.Series) -> float | None:
     if len(t) < 2:
         return None
@@ -502,7 +608,7 @@ def _largest_gap(t: pd.Series) -> float | None:
 
 
 def _safe(sid: str) -> str:
-    return re.sub(r"[^A-Za-z0-9_.-]+", "-", sid)
+    return re.sub(r"[^A-Za-z0-9_.~-]+", "-", sid)
 
 
 def _fsync_file(path: Path) -> None:
@@ -524,6 +630,75 @@ def _atomic_write_text(path: Path, text: str) -> None:
         dfd = os.open(path.parent, os.O_RDONLY)
         os.fsync(dfd)
         os.close(dfd)
+
+
+
+def _read_manifest(root: Path) -> dict:
+    """The manifest of the archive at ``root``, checked; ArchiveError when it is not one."""
+    path = root / MANIFEST
+    if not path.exists():
+        raise ArchiveError(f"{root}: not a degas archive (no {MANIFEST}); "
+                           "create one with 'degas ingest ... --into'")
+    try:
+        manifest = json.loads(path.read_text())
+    except (OSError, json.JSONDecodeError) as exc:
+        raise ArchiveError(f"{path}: unreadable manifest ({exc})") from None
+    if not isinstance(manifest, dict) or manifest.get("format") != FORMAT_NAME:
+        raise ArchiveError(f"{path}: not a degas archive manifest")
+    if not isinstance(manifest.get("series"), dict) \
+            or not isinstance(manifest.get("sources"), dict) or not isinstance(manifest.get("generation"), int):
+        raise ArchiveError(f"{path}: damaged manifest (series, sources or generation missing)")
+    if not isinstance(manifest.get("version", 0), int) or manifest.get("version", 0) > FORMAT_VERSION:
+        raise ArchiveError(f"{path}: archive format {manifest.get('version')!r} is newer than this degas "
+                           "understands")
+    return manifest
+
+
+def _refuse_foreign(root: Path) -> None:
+    """ArchiveError when ``root`` holds files that no archive would (never adopt a foreign folder)."""
+    if not root.is_dir():
+        return
+    ours = {".lock", "series", "rejects", MANIFEST + ".tmp"}
+    if any(p.name not in ours for p in root.iterdir()):
+        raise ArchiveError(f"{root}: directory exists, is not empty and holds no {MANIFEST}")
+
+
+def _check_folders(root: Path) -> None:
+    """ArchiveError when ``series/`` or ``rejects/`` is a link (or anything) leading outside the archive."""
+    base = root.resolve()
+    for sub in ("series", "rejects"):
+        d = root / sub
+        if d.is_symlink() or (d.exists() and not d.is_dir()):
+            target = d.resolve()
+            if not d.is_dir() or not target.is_relative_to(base) or target == base:
+                raise ArchiveError(f"{d}: is a link or file leading outside the archive ({target}); refusing to "
+                                   "write (make it a plain folder inside the archive)")
+
+
+@contextlib.contextmanager
+def _locked(root: Path, timeout: float):
+    """Hold the archive's exclusive write lock, waiting up to ``timeout`` seconds for another writer."""
+    import fcntl
+
+    fh = open(root / ".lock", "a+")
+    try:
+        deadline = time.monotonic() + max(0.0, timeout)
+        delay = 0.01
+        while True:
+            try:
+                fcntl.flock(fh, fcntl.LOCK_EX | fcntl.LOCK_NB)
+                break
+            except BlockingIOError:
+                if time.monotonic() >= deadline:
+                    raise ArchiveError(f"{root}: another process has been writing to this archive for more than "
+                                       f"{timeout:g} s; try again later or wait longer with --lock-timeout") from None
+                time.sleep(delay)
+                delay = min(delay * 2, 0.2)
+        yield
+    finally:
+        with contextlib.suppress(OSError):
+            fcntl.flock(fh, fcntl.LOCK_UN)
+        fh.close()
 
 
 def entry_display(e: SeriesEntry) -> dict:

@@ -67,6 +67,9 @@ def test_conflicting_rows_are_reported_and_kept_out_unless_accepted(write, tmp_p
     assert "conflicting" in rep.summary()
     rej = arc.rejects()
     assert rej["reason"].str.contains("conflicts with the stored value").sum() == 3
+    # in the file's own unit (issue 10): stored 864 t/d, this file 100 t/d
+    assert rej["reason"].iloc[0].startswith("conflicts with the stored value 864 t/d for gas_flux.so2_flux.S "
+                                            "(this file: 100 t/d;")
     before = arc.load(arc.entries()[0].series_id).data["value"].iloc[0]
     assert before == pytest.approx(864 / 86.4)
     rep = arc.ingest_file(write("w1c.csv", week("2024-01-01", 1, value=200.0)), ReadOptions(station="S"),
@@ -175,8 +178,9 @@ def test_second_writer_is_refused_while_one_holds_the_lock(write, tmp_path):
     fh = open(root / ".lock", "a+")
     fcntl.flock(fh, fcntl.LOCK_EX)
     try:
-        with pytest.raises(ArchiveError, match="another process"):
-            Archive.open(root).ingest_file(write("w1.csv", week("2024-01-01")))
+        # writers now wait for the lock (issue 10); past their timeout they are refused
+        with pytest.raises(ArchiveError, match="another process.*--lock-timeout"):
+            Archive.open(root, lock_timeout=0.2).ingest_file(write("w1.csv", week("2024-01-01")))
     finally:
         fcntl.flock(fh, fcntl.LOCK_UN)
         fh.close()

@@ -419,6 +419,9 @@ def _bins(duration, step: pd.Timedelta, default_bins: int, what: str) -> tuple[i
 # main entry
 
 
+_MAX_SEGMENTABLE = 1e100  # largest |value| whose squares and their sums stay finite in float64
+
+
 def detect_changepoints(
     series: TimeSeries | Sequence[TimeSeries] | pd.DataFrame,
     *,
@@ -487,6 +490,12 @@ def detect_changepoints(
     n_valid = int(valid.sum())
     if n_valid == 0:
         raise NotEnoughDataError(f"{', '.join(prep.names)}: no valid values on the grid; nothing to segment")
+    # segment costs are sums of squares: beyond 1e100 they overflow float64 (a unit or typing error upstream)
+    z_big = float(np.max(np.abs(z[valid]))) if n_valid else 0.0
+    if z_big > _MAX_SEGMENTABLE:
+        raise DegasError(f"{', '.join(prep.names)}: values up to {z_big:.3g} (after the {'/'.join(prep.transforms)} "
+                         f"transform) are too large to segment in float64 (limit {_MAX_SEGMENTABLE:g}); check the "
+                         "units of the series")
     if n_valid < m:
         raise NotEnoughDataError(
             f"{n_valid} valid bins of {_td(prep.step)} is shorter than the minimum segment {_td(min_td)} ({m} bins)"
@@ -532,7 +541,7 @@ def detect_changepoints(
         elif sigma is None:
             raise NotEnoughDataError(
                 f"{prep.names[j]}: noise estimate is zero (more than half of the successive differences are 0, "
-                f"e.g. a step-wise or repeated series); pass sigma= to set the noise scale"
+                f"e.g. a step-wise or repeated series); no change can be judged against a zero noise scale"
             )
     if sigma is not None:
         sig = np.broadcast_to(np.asarray(sigma, dtype="float64"), (d,)).copy()

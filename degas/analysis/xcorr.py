@@ -81,7 +81,7 @@ def _pair(gas, magma, step) -> tuple[np.ndarray, np.ndarray, pd.DatetimeIndex | 
                 if not (idx[1:] - idx[:-1] == step).all():
                     raise DegasError("the time grid is not regular; align the series first")
             else:
-                raise DegasError("cannot infer the time step; pass step=")
+                raise DegasError("cannot infer the time step of the series; give --step (e.g. 1D)")
         g = gas.to_numpy(dtype="float64", na_value=np.nan)
         m = magma.to_numpy(dtype="float64", na_value=np.nan)
         return g, m, idx if isinstance(idx, pd.DatetimeIndex) else None, pd.Timedelta(step)

@@ -12,7 +12,7 @@ from rich.console import Console
 from rich.progress import BarColumn, Progress, TextColumn, TimeElapsedColumn
 from rich.table import Table
 
-from degas.cli._app import app, console, err_console
+from degas.cli._app import app, console, err_console, one_line, os_error_line
 from degas.errors import DegasError
 from degas.io.base import ReadOptions
 from degas.io.mapping import load_mapping, load_toml, merge_options, options_from_dict
@@ -21,7 +21,8 @@ from degas.store import Archive, FileReport, entry_display
 
 def _progress() -> Progress:
     return Progress(TextColumn("{task.description}"), BarColumn(), TextColumn("{task.completed}/{task.total}"),
-                    TimeElapsedColumn(), console=err_console, transient=True)
+                    TimeElapsedColumn(), console=err_console, transient=True,
+                    disable=not err_console.is_terminal)  # no stray blank line on a redirected stderr
 
 
 def _print_report(rep: FileReport, show_rejects: int) -> None:
@@ -87,6 +88,8 @@ def ingest(
                                                               "precision flag instead of rejecting them."),
     depth_positive: str | None = typer.Option(None, help="Catalogue depths positive 'down' (below the datum, "
                                                          "default) or 'up' (height above it)."),
+    lock_timeout: float = typer.Option(60.0, "--lock-timeout", min=0.0, max=86400.0,
+                                       help="Seconds to wait while another process writes to the archive."),
 ) -> None:
     """Read monitoring exports into the archive (UTC, SI units, provenance); report every rejected row."""
     base = load_mapping(mapping) if mapping else ReadOptions()
@@ -99,17 +102,21 @@ def ingest(
         bulk_density=bulk_density, dense_density=dense_density, allow_negative=allow_negative or None,
         **_extra_options(sheet, time_origin, time_unit, accept_approximate_dates, depth_positive),
     )
-    archive = Archive.create(into)
+    archive = Archive.create(into, lock_timeout=lock_timeout)
     failed = 0
     for f in files:
         try:
             ingest_files(archive, [(f, options, fmt)], accept_conflicts=accept_conflicts, show_rejects=show_rejects)
         except DegasError as exc:
             failed += 1
-            err_console.print(f"degas: error: {exc}", markup=False)
+            err_console.print(f"degas: error: {one_line(str(exc), 2000)}", markup=False)
+        except OSError as exc:
+            failed += 1
+            err_console.print(f"degas: error: {os_error_line(exc)}", markup=False)
     if failed:
-        err_console.print(f"degas: {failed} of {len(files)} file(s) not ingested; the archive keeps everything "
-                          "stored before", markup=False)
+        if len(files) > 1:  # one file: its error line says it all (one line on stderr)
+            err_console.print(f"degas: {failed} of {len(files)} file(s) not ingested; the archive keeps everything "
+                              "stored before", markup=False)
         raise typer.Exit(2)
 
 

@@ -134,12 +134,14 @@ def couple(
                                                   "default: project, else 60D)."),
     variant: str | None = typer.Option(None, help="prewhitened, raw or differenced (default: project, else "
                                                   "prewhitened)."),
-    surrogates: int | None = typer.Option(None, help="Surrogates for the significance test (0: none; default: "
-                                                     "project, else 1000)."),
+    surrogates: int | None = typer.Option(
+        None, min=0, max=100_000, help="Surrogates for the significance test (0: none; default: "
+        "project, else 1000)."),
     surrogate_method: str = typer.Option("phase", "--surrogate-method", help="phase or iaaft."),
-    boot: int | None = typer.Option(None, help="Block-bootstrap replicates for the best-lag interval (0: none; "
-                                               "default: project, else 500)."),
-    seed: int | None = typer.Option(None, help="Random seed (default: project, else 0)."),
+    boot: int | None = typer.Option(
+        None, min=0, max=100_000, help="Block-bootstrap replicates for the best-lag interval (0: none; "
+        "default: project, else 500)."),
+    seed: int | None = typer.Option(None, min=0, max=2**32 - 1, help="Random seed (default: project, else 0)."),
     granger: bool = typer.Option(True, help="Also run Granger tests both ways."),
     granger_max_lag: str = typer.Option("10D", help="Largest Granger lag order (duration)."),
     rolling: bool = typer.Option(False, help="Also compute rolling coupling."),
@@ -147,8 +149,9 @@ def couple(
     window_step: str | None = typer.Option(None, help="Rolling window shift (default: project, else 7D)."),
     window_max_lag: str | None = typer.Option(None, help="Lag range inside each rolling window (default: project, "
                                                          "else 15D)."),
-    window_surrogates: int | None = typer.Option(None, help="Surrogates per rolling window (default: project, "
-                                                            "else 200)."),
+    window_surrogates: int | None = typer.Option(
+        None, min=0, max=100_000, help="Surrogates per rolling window (default: project, "
+        "else 200)."),
     csv: Path | None = typer.Option(None, "--csv", help="Write the cross-correlation per lag (or the rolling "
                                                         "table with --rolling) to CSV."),
     json_out: Path | None = typer.Option(None, "--json", help="Write the summary as JSON."),
@@ -367,8 +370,8 @@ def budget(
                                                 "fully correlated over the record; 0.20 is common practice."),
     good_flags: str = typer.Option("good,ok,valid,buena", help="Comma-separated quality flags of scans that enter "
                                                                "the budget (scans without a flag always do)."),
-    n_mc: int = typer.Option(10_000, "--monte-carlo", help="Monte Carlo draws."),
-    seed: int = typer.Option(0, help="Random seed."),
+    n_mc: int = typer.Option(10_000, "--monte-carlo", min=1, max=100_000, help="Monte Carlo draws."),
+    seed: int = typer.Option(0, min=0, max=2**32 - 1, help="Random seed."),
     csv: Path | None = typer.Option(None, "--csv", help="Write the per-segment budget to CSV."),
     json_out: Path | None = typer.Option(None, "--json", help="Write the budget and notes as JSON."),
 ) -> None:

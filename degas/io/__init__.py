@@ -112,7 +112,13 @@ def read(path: str | Path, options: ReadOptions | None = None, format: str | Non
     fmt = get_format(format) if format else detect_format(path)
     if options.kind is not None and options.kind not in fmt.kinds:
         raise InputError(path.name, f"looks like {fmt.name}, which cannot hold {options.kind} data (wrong file?)")
-    result = fmt.read(path, options)
+    import numpy as np
+
+    from degas.io.sanity import screen
+
+    with np.errstate(all="ignore"):  # overflow to inf / invalid to NaN: such cells are rejected row by row
+        result = fmt.read(path, options)
+        result = screen(result, path.name)  # impossible magnitudes and time-axis outliers become rejects
     if options.kind is not None:
         wrong = [r.meta.kind for r in result.records if r.meta.kind != options.kind]
         if wrong:

@@ -8,6 +8,7 @@ returns records in the canonical model (UTC, SI) plus every rejected row.
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass, field
 from datetime import UTC
 from functools import lru_cache
@@ -15,9 +16,41 @@ from pathlib import Path
 
 import pandas as pd
 
+from degas.errors import ConfigError
 from degas.model import Provenance, Record
 
 REJECT_COLUMNS = ("file", "line", "column", "reason", "raw")
+
+# (option, low, high, low open?, high open?, what): bounds of physically meaningful reader options.
+# Vesicularity is a void fraction, below 1 by definition; rock densities between 100 kg/m³ (pumice-like
+# froth) and 5000 kg/m³ (above any silicate melt or rock; basalt is about 2800-3000 kg/m³, from memory).
+_NUMERIC_BOUNDS = (
+    ("vesicularity", 0.0, 1.0, False, True, "a void fraction"),
+    ("bulk_density", 100.0, 5000.0, False, False, "a density in kg/m³"),
+    ("dense_density", 100.0, 5000.0, False, False, "a density in kg/m³"),
+)
+
+
+def check_timezone(name: str) -> None:
+    """ConfigError unless ``name`` is an IANA zone or a fixed offset such as "+01:00"."""
+    import re
+    import zoneinfo
+
+    if isinstance(name, str):
+        if re.fullmatch(r"\s*[+-]\d\d:?\d\d\s*", name):
+            return
+        try:
+            zoneinfo.ZoneInfo(name)
+            return
+        except (zoneinfo.ZoneInfoNotFoundError, ValueError, OSError):  # a folder such as "America" is OSError
+            pass
+        try:  # spellings pandas accepts too ("utc")
+            pd.Timestamp("2000-01-01").tz_localize(name)
+            return
+        except Exception:  # noqa: BLE001 - pandas raises several types for unknown zones
+            pass
+    raise ConfigError(f"--tz / timezone = {name!r}: not a time zone; give an IANA name such as 'UTC' or "
+                      "'Etc/GMT+5', or a fixed offset such as '+01:00'")
 
 
 @dataclass(frozen=True)
@@ -73,6 +106,20 @@ class ReadOptions:
     accept_approximate_dates: bool = False
     depth_positive: str | None = None
     state_map: dict[str, str] = field(default_factory=dict)
+
+    def __post_init__(self) -> None:
+        """One-line errors for values that cannot be meant, naming the CLI option and the mapping key."""
+        if self.timezone is not None:
+            check_timezone(self.timezone)
+        for name, lo, hi, lo_open, hi_open, what in _NUMERIC_BOUNDS:
+            v = getattr(self, name)
+            if v is None:
+                continue
+            ok = isinstance(v, int | float) and not isinstance(v, bool) and math.isfinite(v)
+            ok = ok and (v > lo if lo_open else v >= lo) and (v < hi if hi_open else v <= hi)
+            if not ok:
+                rng = f"{'(' if lo_open else '['}{lo:g}, {hi:g}{')' if hi_open else ']'}"
+                raise ConfigError(f"--{name.replace('_', '-')} / {name} = {v!r}: must be {what} in {rng}")
 
     def as_pairs(self) -> tuple[tuple[str, str], ...]:
         """Options that were actually set, as (name, text) pairs for provenance."""

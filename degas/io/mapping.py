@@ -31,6 +31,9 @@ from degas.model import ERUPTIVE_STATES, EVENT_CLASSES, KINDS
 
 _FIELDS = {f.name for f in dataclasses.fields(ReadOptions)}
 _DICT_FIELDS = {"columns", "units", "class_map", "state_map"}
+_TEXT_FIELDS = {"kind", "species", "station", "timezone", "time_format", "volume_basis", "magnitude_type",
+                "time_origin", "time_unit", "depth_positive"}
+_BOOL_FIELDS = {"dayfirst", "allow_negative", "accept_approximate_dates"}
 
 
 def options_from_dict(d: dict, where: str = "mapping") -> ReadOptions:
@@ -40,6 +43,12 @@ def options_from_dict(d: dict, where: str = "mapping") -> ReadOptions:
         valid = ", ".join(sorted(_FIELDS | {"path", "format"}))
         raise ConfigError(f"{where}: unknown option(s) {unknown}; valid: {valid}")
     clean = {k: v for k, v in d.items() if k in _FIELDS}
+    for k in _TEXT_FIELDS & set(clean):
+        if not isinstance(clean[k], str) or not clean[k].strip() or len(clean[k]) > 1000:
+            raise ConfigError(f"{where}: {k} must be non-empty text (at most 1000 characters), got {clean[k]!r:.60}")
+    for k in _BOOL_FIELDS & set(clean):
+        if not isinstance(clean[k], bool):
+            raise ConfigError(f"{where}: {k} must be true or false, got {clean[k]!r:.60}")
     for k in _DICT_FIELDS & set(clean):
         if not isinstance(clean[k], dict):
             raise ConfigError(f"{where}: [{k}] must be a table")
@@ -71,16 +80,41 @@ def options_from_dict(d: dict, where: str = "mapping") -> ReadOptions:
         return ReadOptions(**clean)
     except TypeError as exc:
         raise ConfigError(f"{where}: {exc}") from None
+    except ConfigError as exc:  # a value out of its range (ReadOptions checks them)
+        raise ConfigError(f"{where}: {exc}") from None
 
 
 def load_toml(path: str | Path) -> dict:
     path = Path(path)
     try:
-        return tomllib.loads(path.read_text(encoding="utf-8"))
+        data = tomllib.loads(path.read_text(encoding="utf-8"))
     except FileNotFoundError:
         raise ConfigError(f"{path}: mapping file not found") from None
     except tomllib.TOMLDecodeError as exc:
-        raise ConfigError(f"{path}: not valid TOML ({exc})") from None
+        raise ConfigError(f"{path}: not valid TOML ({' '.join(str(exc).split())})") from None
+    except UnicodeDecodeError as exc:
+        raise ConfigError(f"{path}: not UTF-8 text, as TOML must be (byte {exc.start})") from None
+    except RecursionError:
+        raise ConfigError(f"{path}: nested more deeply than degas reads") from None
+    except IsADirectoryError:
+        raise ConfigError(f"{path}: is a folder, not a TOML file") from None
+    if _depth(data) > MAX_TOML_DEPTH:
+        raise ConfigError(f"{path}: nested more than {MAX_TOML_DEPTH} levels deep; degas files use at most 3")
+    return data
+
+
+MAX_TOML_DEPTH = 8
+
+
+def _depth(x, level: int = 0) -> int:
+    """Nesting depth of tables and arrays (stops counting past MAX_TOML_DEPTH)."""
+    if level > MAX_TOML_DEPTH:
+        return level
+    if isinstance(x, dict):
+        return max((_depth(v, level + 1) for v in x.values()), default=level + 1)
+    if isinstance(x, list):
+        return max((_depth(v, level + 1) for v in x), default=level + 1)
+    return level
 
 
 def load_mapping(path: str | Path) -> ReadOptions:

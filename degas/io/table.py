@@ -65,12 +65,12 @@ def is_delimited(head: bytes, path: Path) -> bool:
     try:
         text = _decode(head)
     except UnicodeDecodeError:
-        text = head.decode("latin-1")  # the reader falls back to Latin-1 the same way
-        if sum(ch < " " and ch not in "\r\n\t" for ch in text[:4096]) > 8:
+        text = _decode_legacy(head)  # the reader falls back to Windows-1252 / Latin-1 the same way
+        if _binary_like(text):
             return False
     if text.lstrip().startswith("<"):
         return False
-    lines = [ln for ln in text.splitlines() if ln.strip() and not ln.lstrip().startswith("#")]
+    lines = [ln for ln in split_lines(text) if ln.strip() and not ln.lstrip().startswith("#")]
     if not lines:  # only comments: let the reader say so
         return True
     return any(d in lines[0] for d in (",", ";", "\t", "|"))
@@ -102,6 +102,38 @@ class RawTable:
     precision: dict = field(default_factory=dict)  # time column -> per-row date precision ("" = exact)
 
 
+# What a line is, for the sniffer and the loader alike: ends at LF, CR LF or a lone CR (as the CSV parser
+# of pyarrow reads them). NEL, U+2028/U+2029, form feed and vertical tab are characters inside a line.
+_EOL = re.compile(r"\r\n|\r|\n")
+_EOL_BYTES = re.compile(rb"\r\n|\r|\n")
+_NON_BLANK = re.compile(rb"\S")
+# bytes that Windows-1252 leaves undefined; a file holding any of them is read as Latin-1 instead
+_CP1252_UNDEFINED = (b"\x81", b"\x8d", b"\x8f", b"\x90", b"\x9d")
+
+
+def split_lines(text: str) -> list[str]:
+    """Lines of ``text`` by the rule above (no empty last item for a final line end)."""
+    lines = _EOL.split(text)
+    if lines and lines[-1] == "":
+        lines.pop()
+    return lines
+
+
+def _legacy_encoding(data: bytes) -> str:
+    """Encoding of text that is not UTF-8: Windows-1252 (the usual 8-bit export) unless it holds a byte that
+    Windows-1252 leaves undefined, then Latin-1 (every byte a character)."""
+    return "latin-1" if any(b in data for b in _CP1252_UNDEFINED) else "cp1252"
+
+
+def _decode_legacy(data: bytes) -> str:
+    return data.decode(_legacy_encoding(data))
+
+
+def _binary_like(text: str) -> bool:
+    """More than 8 control characters (other than line ends and tabs) in the first 4096 characters."""
+    return sum(ch < " " and ch not in "\r\n\t\f" for ch in text[:4096]) > 8
+
+
 def _decode(data: bytes) -> str:
     if data.startswith(codecs.BOM_UTF8):
         return data[len(codecs.BOM_UTF8):].decode("utf-8")
@@ -116,23 +148,29 @@ def _decode(data: bytes) -> str:
 _META = re.compile(r"^\s*#+\s*([A-Za-z][A-Za-z0-9 _/\-]*?)\s*[:=]\s*(.+?)\s*$")
 
 
-def _sniff(path: Path) -> tuple[str, int, dict[str, str], str]:
-    """Encoding, number of preamble lines, preamble metadata and delimiter."""
-    with open(path, "rb") as fh:
-        head = fh.read(HEAD_BYTES)
+def _sniff(path: Path, data: bytes | None = None) -> tuple[str, int, dict[str, str], str]:
+    """Encoding, number of preamble lines, preamble metadata and delimiter.
+
+    The encoding is decided on the whole file (``data``, read when not given): UTF-8 when all of it is
+    valid UTF-8, else Windows-1252 or Latin-1 (see :func:`_legacy_encoding`), so the loader never meets an
+    invalid byte half-way.
+    """
+    if data is None:
+        data = path.read_bytes()
+    head = data[:HEAD_BYTES]
     if not head.strip():
         raise InputError(path.name, "empty file")
     if b"\x00" in head[:4096]:
         raise InputError(path.name, "binary data, not a text table (wrong file?)")
-    try:
+    if _valid_utf8_bytes(data):
         text = _decode(head)
         encoding = "utf-8-sig" if head.startswith(codecs.BOM_UTF8) else "utf-8"
-    except UnicodeDecodeError:
-        text = head.decode("latin-1")
-        encoding = "latin-1"
-        if sum(ch < " " and ch not in "\r\n\t" for ch in text[:4096]) > 8:
+    else:
+        encoding = _legacy_encoding(data)
+        text = head.decode(encoding)
+        if _binary_like(text):
             raise InputError(path.name, "binary data, not a text table (wrong file?)") from None
-    lines = text.splitlines()
+    lines = split_lines(text)
     meta: dict[str, str] = {}
     n_pre = 0
     for ln in lines:
@@ -158,21 +196,37 @@ def load_delimited(path: Path) -> RawTable:
     import pyarrow as pa
     import pyarrow.csv as pcsv
 
-    encoding, n_pre, meta, delim = _sniff(path)
+    data = path.read_bytes()
+    encoding, n_pre, meta, delim = _sniff(path, data)
+    if encoding not in ("utf-8", "utf-8-sig"):
+        meta["encoding"] = f"{'windows-1252' if encoding == 'cp1252' else encoding} (not valid UTF-8)"
     bad: list[tuple[int, str]] = []
+    # the header line and the data that follow it, found by the sniffer's line rule
+    ends = _EOL_BYTES.finditer(data)
+    start = 0
+    header_end = len(data)
+    for i, m in enumerate(ends):
+        if i < n_pre:
+            start = m.end()
+            continue
+        header_end, body = m.start(), m.end()
+        break
+    else:
+        body = len(data)
+    header_bytes = data[start:header_end]
+    if n_pre == 0 and header_bytes.startswith(codecs.BOM_UTF8):
+        header_bytes = header_bytes[len(codecs.BOM_UTF8):]
+    pa_encoding = "utf8" if encoding.startswith("utf-8") else encoding
+    offset = n_pre + 1  # file lines before the first data line
 
     def on_invalid(row) -> str:
         text = row.text or ""
         if text.strip() and not text.lstrip().startswith("#"):
-            bad.append((row.number, text))
+            bad.append((None if row.number is None else row.number + offset, text))
         return "skip"
 
-    with open(path, "rb") as fh:
-        for _ in range(n_pre):
-            fh.readline()
-        header_bytes = fh.readline()
     try:
-        header = next(csv.reader([header_bytes.decode(encoding, errors="replace").rstrip("\r\n")], delimiter=delim))
+        header = next(csv.reader([header_bytes.decode(encoding, errors="replace")], delimiter=delim))
     except csv.Error as exc:
         raise InputError(path.name, f"cannot read the header line: {exc}", line=n_pre + 1) from None
     header = [h.strip() for h in header]
@@ -181,11 +235,13 @@ def load_delimited(path: Path) -> RawTable:
     if len(set(header)) != len(header):
         dup = sorted({h for h in header if header.count(h) > 1})
         raise InputError(path.name, f"duplicate column names {dup}", line=n_pre + 1)
+    buffer = pa.py_buffer(data).slice(body)
+
     def _read(threads: bool):
         return pcsv.read_csv(
-            path,
+            pa.BufferReader(buffer),
             read_options=pcsv.ReadOptions(
-                skip_rows=n_pre + 1, column_names=header, use_threads=threads, encoding=encoding,
+                skip_rows=0, column_names=header, use_threads=threads, encoding=pa_encoding,
                 block_size=1 << 24,
             ),
             parse_options=pcsv.ParseOptions(delimiter=delim, invalid_row_handler=on_invalid,
@@ -198,17 +254,16 @@ def load_delimited(path: Path) -> RawTable:
 
     try:
         # multi-threaded first; invalid rows carry no line number then, so such files are read again
-        table = _read(True)
+        if _NON_BLANK.search(data, body) is None:  # a header and nothing else: the builders say "no data rows"
+            table = pa.table({h: pa.array([], pa.string()) for h in header})
+        else:
+            table = _read(True)
         if bad:
             bad.clear()
             table = _read(False)
-    except pa.ArrowInvalid as exc:
-        if encoding == "latin-1" or ("UTF8" not in str(exc) and _valid_utf8(path)):
-            raise InputError(path.name, f"cannot read as a delimited table: {str(exc).splitlines()[0]}") from None
-        encoding = "latin-1"  # invalid UTF-8 beyond the sniffed head: every byte is a Latin-1 character
-        meta["encoding"] = "latin-1 (not valid UTF-8)"
-        bad.clear()
-        table = _read(False)
+    except (pa.ArrowInvalid, pa.ArrowNotImplementedError, UnicodeError) as exc:
+        text = " ".join(str(exc).split())[:200]
+        raise InputError(path.name, f"cannot read as a delimited table: {text}") from None
     first_data_line = n_pre + 2
     n = table.num_rows
     if bad:
@@ -227,13 +282,26 @@ def load_delimited(path: Path) -> RawTable:
     if len(frame):
         first = frame.columns[0]
         blank = (frame[first].str.len() == 0).to_numpy().copy()
-        if blank.any():
-            for c in frame.columns:
-                blank[blank] &= (frame.loc[blank, c].str.strip() == "").to_numpy()
+        if blank.any():  # one vectorised pass over the candidate rows, however wide the file
+            cells = frame.loc[blank].to_numpy(dtype=str)
+            blank[blank] = (np.char.strip(cells) == "").all(axis=1)
         if blank.any():
             frame = frame.loc[~blank].reset_index(drop=True)
             lines = lines[~blank]
     return RawTable(frame, header, lines, meta, rejects, delimiter=delim)
+
+
+def _valid_utf8_bytes(data: bytes) -> bool:
+    """True when ``data`` decodes as UTF-8 (checked in 1 MiB blocks, without one big copy)."""
+    dec = codecs.getincrementaldecoder("utf-8")()
+    view = memoryview(data)
+    try:
+        for i in range(0, len(view), 1 << 20):
+            dec.decode(view[i:i + (1 << 20)])
+        dec.decode(b"", final=True)
+    except UnicodeDecodeError:
+        return False
+    return True
 
 
 def _valid_utf8(path: Path) -> bool:
@@ -269,11 +337,26 @@ def load_parquet(path: Path) -> RawTable:
             key = k.decode(errors="ignore").lower()
             if key.startswith("degas.") or key in ("station", "species", "vesicularity"):
                 meta[key.removeprefix("degas.")] = v.decode(errors="ignore")
-    frame = table.to_pandas()
+    try:
+        frame = table.to_pandas()
+    except Exception as exc:  # noqa: BLE001 - corrupt pandas metadata and the like: the file is refused in one line
+        text = " ".join(str(exc).split())[:200]
+        raise InputError(path.name, f"cannot convert the Parquet table ({type(exc).__name__}: {text})") from None
+    frame.columns = [str(c) for c in frame.columns]
     return RawTable(frame, list(frame.columns), np.arange(1, len(frame) + 1), meta, [], line_label="row")
 
 
 # --------------------------------------------------------------------------- column plan
+
+MAX_VALUE_COLUMNS = 50  # series one file may create; a wider table is almost surely not meant column by column
+
+
+def _shown(names, limit: int = 12) -> str:
+    """Column names for a message: all of them when few, else the first ``limit`` and the count."""
+    names = list(names)
+    if len(names) <= limit:
+        return repr(names)
+    return repr(names[:limit])[:-1] + f", ... ({len(names):,} columns in all)]"
 
 
 @dataclass
@@ -294,7 +377,7 @@ def plan_columns(raw: RawTable, options: ReadOptions, source: str) -> Plan:
     roles: dict[str, str] = {}
     for role, col in options.columns.items():
         if col not in raw.frame.columns:
-            raise InputError(source, f"mapped column {col!r} (for {role}) not found; columns are {list(hdrs)}")
+            raise InputError(source, f"mapped column {col!r} (for {role}) not found; columns are {_shown(hdrs)}")
         roles[role] = col
     taken = set(roles.values())
 
@@ -324,17 +407,17 @@ def plan_columns(raw: RawTable, options: ReadOptions, source: str) -> Plan:
         find("location")
         find("note")
         if "time" not in roles:
-            raise InputError(source, f"no start column for a chronology; columns are {list(hdrs)}")
+            raise InputError(source, f"no start column for a chronology; columns are {_shown(hdrs)}")
         if "state" not in roles and "style" not in roles:
             raise InputError(source, f"no state/activity or style column, so this is not an eruption chronology "
-                                     f"(wrong file or wrong --kind?); columns are {list(hdrs)}")
+                                     f"(wrong file or wrong --kind?); columns are {_shown(hdrs)}")
         return Plan("chronology", roles, [], {})
 
     find("time")
     if "time" not in roles:
         find("time", "start")
     if "time" not in roles:
-        raise InputError(source, f"no time column found; columns are {list(hdrs)} "
+        raise InputError(source, f"no time column found; columns are {_shown(hdrs)} "
                                  "(name one with --time-col or [columns] time = ... in a mapping file)")
     if kind in (None, "event_counts"):
         from degas.io.counts import count_columns
@@ -377,18 +460,22 @@ def plan_columns(raw: RawTable, options: ReadOptions, source: str) -> Plan:
         if kind is not None and len(value_cols) > 1:
             strict = [c for c in value_cols if guess_kind(hdrs[c]) == kind]
             value_cols = strict or value_cols
+    if len(value_cols) > MAX_VALUE_COLUMNS:
+        raise InputError(source, f"{len(value_cols):,} columns would each become a series (at most "
+                                 f"{MAX_VALUE_COLUMNS}); pick the value column with --value-col, or ingest a "
+                                 "file holding only the wanted columns")
     if not value_cols:
-        raise InputError(source, f"no value column recognised; columns are {list(hdrs)} "
+        raise InputError(source, f"no value column recognised; columns are {_shown(hdrs)} "
                                  "(say which with --value-col and --kind)")
     if kind is None:
         kinds = {guess_kind(hdrs[c]) for c in value_cols} - {None}
         if len(kinds) != 1:
-            raise InputError(source, f"cannot tell what kind of series this is (columns {value_cols}); "
+            raise InputError(source, f"cannot tell what kind of series this is (columns {_shown(value_cols)}); "
                                      f"pass --kind ({', '.join(SERIES_KINDS)})")
         kind = kinds.pop()
     if kind not in SERIES_KINDS:
         raise InputError(source, f"file looks like a {kind}-free series table but --kind {kind} was given; "
-                                 f"columns are {list(hdrs)}")
+                                 f"columns are {_shown(hdrs)}")
     unc_for: dict[str, str] = {}
     for v in value_cols:
         if len(value_cols) == 1 and unc_cols:
@@ -598,18 +685,22 @@ def _dedupe_and_sort(df: pd.DataFrame, lines: np.ndarray, key: list[str], compar
             dup = df.duplicated(subset=key, keep="first").to_numpy()
     else:
         dup = df.duplicated(subset=key, keep="first").to_numpy()
-    if dup.any():
-        first_line = {}
-        keys = list(zip(*(df[k].to_numpy() for k in key), strict=True))
-        for i, k in enumerate(keys):
-            if not dup[i]:
-                first_line.setdefault(k, i)
-        for i in np.flatnonzero(dup):
-            j = first_line[keys[i]]
-            same = all(_same(df[c].iloc[i], df[c].iloc[j]) for c in compare)
-            reason = (f"duplicate of line {lines[j]}" if same
-                      else f"duplicate {what} with a different value than line {lines[j]}")
-            rejects.append((source, int(lines[i]), label or key[0], reason, str(df[key[0]].iloc[i])))
+    if dup.any():  # vectorised: each later duplicate is compared with the first row of its key
+        codes = df.groupby(key, sort=False, dropna=False).ngroup().to_numpy()
+        _, first_of_code = np.unique(codes, return_index=True)
+        di = np.flatnonzero(dup)
+        dj = first_of_code[codes[di]]
+        same = np.ones(len(di), dtype=bool)
+        for c in compare:
+            col = df[c].to_numpy()
+            same &= _same_vec(col[di], col[dj])
+        raw_key = df[key[0]].to_numpy()[di]
+        where = label or key[0]
+        rejects.extend(
+            (source, int(lines[i]), where,
+             f"duplicate of line {lines[j]}" if s_ else f"duplicate {what} with a different value than line {lines[j]}",
+             str(k))
+            for i, j, s_, k in zip(di, dj, same, raw_key, strict=True))
         df = df.loc[~dup]
         lines = lines[~dup]
     t = _sortable(df[sort_by or key[0]])
@@ -628,10 +719,16 @@ def _sortable(col: pd.Series) -> np.ndarray:
     return col.to_numpy()
 
 
-def _same(a, b) -> bool:
-    if isinstance(a, float) and isinstance(b, float):
-        return (np.isnan(a) and np.isnan(b)) or a == b
-    return (pd.isna(a) and pd.isna(b)) or a == b
+def _same_vec(a: np.ndarray, b: np.ndarray) -> np.ndarray:
+    """Element-wise :func:`_same` (equal, or both missing)."""
+    sa = pd.Series(a, dtype=object if a.dtype == object else None)
+    sb = pd.Series(b, dtype=object if b.dtype == object else None)
+    both_na = (sa.isna() & sb.isna()).to_numpy()
+    try:
+        eq = (sa == sb).fillna(False).to_numpy(dtype=bool)
+    except TypeError:
+        eq = np.array([x == y for x, y in zip(a, b, strict=True)], dtype=bool)
+    return eq | both_na
 
 
 # --------------------------------------------------------------------------- builders
@@ -662,6 +759,8 @@ def read_table(path: Path, options: ReadOptions, fmt: str) -> ReadResult:
     else:
         result = _build_series(path, raw, plan, options, reader)
     result.notes[:0] = raw.notes
+    if raw.meta.get("encoding"):
+        result.notes.append(f"{source}: text read as {raw.meta['encoding']}")
     return result
 
 

@@ -21,10 +21,19 @@ def _fmt(v) -> str:
     return str(v)
 
 
+def markdown_escape(text: str) -> str:
+    """Cell text safe in Markdown: HTML (&, <, >) as entities, so no tag or script survives; the characters
+    that build links, images and code (\\ [ ] ` |) backslash-escaped; line breaks as spaces."""
+    import html
+
+    text = html.escape(" ".join(str(text).splitlines()), quote=False)
+    return "".join("\\" + ch if ch in "\\[]`|" else ch for ch in text)
+
+
 def to_markdown(df: pd.DataFrame) -> str:
-    """A GitHub-style Markdown table (pipes in cells escaped)."""
+    """A GitHub-style Markdown table, every cell escaped (see :func:`markdown_escape`)."""
     cols = [str(c) for c in df.columns]
-    esc = lambda s: s.replace("|", "\\|").replace("\n", " ")  # noqa: E731
+    esc = markdown_escape
     lines = ["| " + " | ".join(esc(c) for c in cols) + " |", "| " + " | ".join("---" for _ in cols) + " |"]
     for row in df.itertuples(index=False):
         lines.append("| " + " | ".join(esc(_fmt(v)) for v in row) + " |")
