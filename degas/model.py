@@ -28,6 +28,7 @@ import numpy as np
 import pandas as pd
 
 from degas.errors import DegasError
+from degas.vocabulary import EVENT_CLASSES  # noqa: F401  (re-exported; light module for the CLI help)
 
 KINDS: tuple[str, ...] = (
     "gas_flux",
@@ -70,8 +71,6 @@ DISPLAY_UNIT: dict[str, str | None] = {
     "melt_inclusions": "ppm",
 }
 
-#: Event classes of volcano seismology (volcano-tectonic, long-period, ...).
-EVENT_CLASSES: tuple[str, ...] = ("VT", "LP", "hybrid", "rockfall", "explosion", "tremor", "other")
 ERUPTIVE_STATES: tuple[str, ...] = ("eruptive", "pause", "unknown")
 ERUPTIVE_STYLES: tuple[str, ...] = ("effusive", "explosive", "mixed", "unknown")
 GAS_SPECIES: tuple[str, ...] = ("SO2", "CO2", "H2S", "H2O", "HCl", "HF")

@@ -4,12 +4,12 @@ from __future__ import annotations
 
 import math
 
-import numpy as np
-import pandas as pd
-
 
 def jsonable(x):
     """Nested dicts/lists with timestamps as ISO text, durations as ISO text, NaN/inf as None."""
+    import numpy as np  # here, not at module level: `degas --help` stays free of numpy/pandas (issue 12)
+    import pandas as pd
+
     if isinstance(x, dict):
         return {str(k): jsonable(v) for k, v in x.items()}
     if isinstance(x, list | tuple):

@@ -5,21 +5,26 @@ from __future__ import annotations
 import json
 import shutil
 from pathlib import Path
+from typing import TYPE_CHECKING
 
 import typer
 from rich import box
 from rich.console import Console
-from rich.progress import BarColumn, Progress, TextColumn, TimeElapsedColumn
 from rich.table import Table
 
 from degas.cli._app import app, console, err_console, one_line, os_error_line
 from degas.errors import DegasError
-from degas.io.base import ReadOptions
-from degas.io.mapping import load_mapping, load_toml, merge_options, options_from_dict
-from degas.store import Archive, FileReport, entry_display
+
+if TYPE_CHECKING:  # imported inside the commands: `degas --help` stays free of pandas (issue 12)
+    from rich.progress import Progress
+
+    from degas.io.base import ReadOptions
+    from degas.store import Archive, FileReport
 
 
 def _progress() -> Progress:
+    from rich.progress import BarColumn, Progress, TextColumn, TimeElapsedColumn
+
     return Progress(TextColumn("{task.description}"), BarColumn(), TextColumn("{task.completed}/{task.total}"),
                     TimeElapsedColumn(), console=err_console, transient=True,
                     disable=not err_console.is_terminal)  # no stray blank line on a redirected stderr
@@ -92,6 +97,10 @@ def ingest(
                                        help="Seconds to wait while another process writes to the archive."),
 ) -> None:
     """Read monitoring exports into the archive (UTC, SI units, provenance); report every rejected row."""
+    from degas.io.base import ReadOptions
+    from degas.io.mapping import load_mapping, merge_options, options_from_dict
+    from degas.store import Archive
+
     base = load_mapping(mapping) if mapping else ReadOptions()
     if kind is not None:
         options_from_dict({"kind": kind}, "--kind")  # validates the name before anything is read
@@ -127,6 +136,8 @@ def _extra_options(sheet, time_origin, time_unit, accept_approximate_dates, dept
     if accept_approximate_dates:
         given["accept_approximate_dates"] = True
     if given:
+        from degas.io.mapping import options_from_dict
+
         names = {"time_unit": "--time-unit", "depth_positive": "--depth-positive", "sheet": "--sheet"}
         try:
             options_from_dict(given, "option")
@@ -147,10 +158,14 @@ def inventory(
     as_json: bool = typer.Option(False, "--json", help="Print JSON instead of a table."),
 ) -> None:
     """List every stored series: kind, quantity, station, time span, count, largest gap, units, sources."""
+    from degas.store import Archive
+
     print_inventory(Archive.open(archive_dir), as_json=as_json)
 
 
 def print_inventory(archive: Archive, *, as_json: bool = False) -> None:
+    from degas.store import entry_display
+
     rows = [entry_display(e) for e in archive.entries()]
     if as_json:
         console.print_json(json.dumps(rows))
@@ -210,6 +225,9 @@ def build_demo_archive(src: Path, archive_dir: Path) -> Archive:
         elif any(archive_dir.iterdir()):
             raise DegasError(f"{archive_dir}: exists and was not built by 'degas demo'; it is left untouched "
                              "(choose another --archive)")
+    from degas.io.mapping import load_toml, options_from_dict
+    from degas.store import Archive
+
     plan = load_toml(src / "demo_ingest.toml").get("file", [])
     items = []
     for i, entry in enumerate(plan):

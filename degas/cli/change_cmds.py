@@ -6,7 +6,6 @@ import json
 import math
 from pathlib import Path
 
-import pandas as pd
 import typer
 from rich.table import Table
 
@@ -66,6 +65,8 @@ def shifts(
     json_out: Path | None = typer.Option(None, "--json", help="Write changes, segments and settings as JSON."),
 ) -> None:
     """Change points of one series (or several jointly): change times with intervals and level ratios."""
+    import pandas as pd  # here, not at module level: `degas --help` stays free of pandas (issue 12)
+
     from degas.analysis.changepoints import detect_changepoints, format_duration
     from degas.model import TimeSeries
     from degas.store import Archive

@@ -8,16 +8,16 @@ from __future__ import annotations
 import json
 import math
 from pathlib import Path
+from typing import TYPE_CHECKING
 
-import numpy as np
-import pandas as pd
 import typer
 from rich.table import Table
 
 from degas.cli._app import app, console
 from degas.errors import DegasError
 
-DAY = pd.Timedelta("1D")
+if TYPE_CHECKING:  # numpy/pandas are imported inside the commands: `degas --help` stays light (issue 12)
+    import pandas as pd
 
 
 def _pick(archive, series_id: str | None, kinds: tuple[str, ...], role: str):
@@ -66,6 +66,10 @@ def _aligned(archive_dir: Path, picks: dict[str, tuple[str | None, tuple[str, ..
 
 
 def _fmt(v, spec: str = ".3g") -> str:
+    import numpy as np
+    import pandas as pd
+
+    DAY = pd.Timedelta("1D")
     if v is None or (isinstance(v, float) and not math.isfinite(v)):
         return "-"
     if isinstance(v, pd.Timedelta):
@@ -83,6 +87,9 @@ def _notes(notes) -> None:
 
 
 def _json_default(o):
+    import numpy as np
+    import pandas as pd
+
     if isinstance(o, pd.Timestamp):
         return o.isoformat()
     if isinstance(o, pd.Timedelta):
@@ -93,6 +100,8 @@ def _json_default(o):
 
 
 def _write(frame: pd.DataFrame, csv: Path | None, payload: dict, json_out: Path | None) -> None:
+    import pandas as pd
+
     if csv is not None:
         out = frame.copy()
         for c in out.columns:
@@ -107,6 +116,9 @@ def _write(frame: pd.DataFrame, csv: Path | None, payload: dict, json_out: Path 
 
 
 def _clean(obj):
+    import numpy as np
+    import pandas as pd
+
     if isinstance(obj, dict):
         return {str(k): _clean(v) for k, v in obj.items()}
     if isinstance(obj, list | tuple):
@@ -157,11 +169,14 @@ def couple(
     json_out: Path | None = typer.Option(None, "--json", help="Write the summary as JSON."),
 ) -> None:
     """Lagged cross-correlation of gas flux against magma output, with surrogates, bootstrap and Granger."""
+    import pandas as pd
+
     from degas.analysis.coupling import rolling_coupling
     from degas.analysis.granger import granger_test
     from degas.analysis.xcorr import cross_correlate
     from degas.project import load_project
 
+    DAY = pd.Timedelta("1D")
     pj = load_project(project) if project is not None else None
 
     def pick(value, key, default):
@@ -253,6 +268,8 @@ def couple(
 
 
 def _segments(series: pd.Series, name: str) -> pd.DataFrame:
+    import pandas as pd
+
     from degas.analysis.changepoints import detect_changepoints
     from degas.analysis.regimes import segments_table
 
@@ -309,7 +326,11 @@ def regimes(
     json_out: Path | None = typer.Option(None, "--json", help="Write the relation, intervals and notes as JSON."),
 ) -> None:
     """Fit gas = g0 + k·output(t + lag) and label intervals coupled / quiet / gas_only / magma_only from it."""
+    import pandas as pd
+
     from degas.analysis.relation import MAGMA_UNITS
+
+    DAY = pd.Timedelta("1D")
 
     if band is not None and not 0 <= band < 1:
         raise DegasError(f"--band must be between 0 and 1, got {band}")
@@ -376,6 +397,8 @@ def budget(
     json_out: Path | None = typer.Option(None, "--json", help="Write the budget and notes as JSON."),
 ) -> None:
     """Cumulative SO2 and DRE, kg SO2 per m³ DRE per segment, petrological excess factor, CO2 flux."""
+    import numpy as np
+
     from degas.analysis.budget import PetrologyInputs, co2_flux, gas_budget
 
     if segments not in ("changepoints", "none"):

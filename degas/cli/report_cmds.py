@@ -3,9 +3,8 @@
 from __future__ import annotations
 
 from pathlib import Path
+from typing import TYPE_CHECKING
 
-import numpy as np
-import pandas as pd
 import typer
 from rich import box
 from rich.console import Console
@@ -13,18 +12,26 @@ from rich.table import Table
 
 from degas.cli._app import app, console, err_console
 from degas.errors import DegasError
-from degas.project import Project, load_project
-from degas.store import Archive
+
+if TYPE_CHECKING:  # imported inside the commands: `degas --help` stays free of pandas (issue 12)
+    from degas.project import Project
+    from degas.store import Archive
 
 
 def _project(project: Path | None, archive: Archive) -> Project:
+    from degas.project import Project, load_project
+
     if project is not None:
         return load_project(project)
     return Project(volcano=archive.root.resolve().name)
 
 
 def _run(archive_dir: Path, project: Path | None, before: str | None, start: str | None, end: str | None):
+    import pandas as pd
+
     from degas.pipeline import run_all
+    from degas.project import load_project
+    from degas.store import Archive
 
     proj = load_project(project) if project is not None else None
     if proj is not None and proj.files:
@@ -66,6 +73,9 @@ def _run(archive_dir: Path, project: Path | None, before: str | None, start: str
 
 def print_brief(bundle) -> None:
     """The one-screen brief in the terminal: rows by what matters, thresholds crossed, the regime."""
+    import numpy as np
+    import pandas as pd
+
     from degas.report.brief import THRESHOLD_NOTE, brief_rows, regime_line
 
     rows = brief_rows(bundle)
@@ -111,6 +121,9 @@ def weekly(
     csv: Path | None = typer.Option(None, "--csv", help="Write the review table to CSV."),
 ) -> None:
     """The Monday review: each series' week against its 90-day baseline, seismic rates, and a summary."""
+    import numpy as np
+    import pandas as pd
+
     from degas.safecsv import protect_frame
 
     bundle = _run(archive_dir, project, before, None, None)

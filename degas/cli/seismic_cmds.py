@@ -5,15 +5,18 @@ from __future__ import annotations
 import json
 import math
 from pathlib import Path
+from typing import TYPE_CHECKING
 
-import pandas as pd
 import typer
 from rich.table import Table
 
 from degas.cli._app import app, console
 from degas.cli._out import jsonable
 from degas.errors import DegasError, NotEnoughDataError
-from degas.model import EVENT_CLASSES, EventCatalog
+from degas.vocabulary import EVENT_CLASSES
+
+if TYPE_CHECKING:  # imported inside the commands: `degas --help` stays free of pandas (issue 12)
+    from degas.model import EventCatalog
 
 
 def _load_catalog(source: Path, series: str | None) -> tuple[EventCatalog, list[str]]:
@@ -40,6 +43,7 @@ def _load_catalog(source: Path, series: str | None) -> tuple[EventCatalog, list[
     from degas.cli.counts_cmds import counts_from_file
     from degas.io import read
     from degas.io.base import ReadOptions
+    from degas.model import EventCatalog
 
     counts = counts_from_file(source)
     if counts is not None:
@@ -93,6 +97,8 @@ def quakes(
     json_out: Path | None = typer.Option(None, "--json", help="Write the summary as JSON."),
 ) -> None:
     """Seismicity of a catalogue: event rates per class, completeness, b-value ± sigma, energy."""
+    import pandas as pd  # here, not at module level: `degas --help` stays free of pandas (issue 12)
+
     from degas.analysis import seismicity as sz
 
     if project is not None:
