@@ -621,58 +621,11 @@ def _bootstrap_weights(n: int, block: int, count: int, rng: np.random.Generator)
     return np.bincount(flat, minlength=count * n).reshape(count, n).astype(float)
 
 
-def cross_correlate(
-    gas,
-    magma,
-    *,
-    max_lag: int | str | pd.Timedelta = "60D",
-    step: str | pd.Timedelta | None = None,
-    variant: str = "prewhitened",
-    normalisation: str = "pearson",
-    n_surrogates: int = 1000,
-    surrogate: str = "phase",
-    seed: int | None = 0,
-    n_boot: int = 500,
-    block_length: int | None = None,
-    ci_level: float = 0.95,
-    max_ar_order: int = 10,
-    gas_name: str = "gas",
-    magma_name: str = "magma output",
-) -> CrossCorrelationResult:
-    """Cross-correlate gas flux with magma output over lags -max_lag..max_lag.
-
-    Parameters
-    ----------
-    gas, magma : pandas Series on the same regular UTC grid (e.g. two columns of an AlignedTable),
-        or 1-D arrays with ``step``. Gas flux in kg/s, magma output in m³/s or eruptive fraction
-        (units do not affect r). NaN = missing bin.
-    max_lag : largest lag, as a duration ("60D") or a number of bins.
-    step : grid step; inferred from a DatetimeIndex.
-    variant : "prewhitened" (AR(p) by AIC fitted to magma output, both filtered), "raw",
-        "differenced".
-    normalisation : "pearson" (pairwise complete), "biased", "adjusted" (statsmodels-compatible).
-    n_surrogates : surrogates for the max-|r| test (0 disables it).
-    surrogate : "phase" (Theiler et al. 1992) or "iaaft" (Schreiber & Schmitz 1996).
-    seed : seed of the numpy Generator used for surrogates and bootstrap.
-    n_boot : block-bootstrap replicates for the best-lag interval (0 disables it).
-    block_length : bootstrap block length in bins; default max(5, round(n ** (1/3))).
-    ci_level : level of the best-lag percentile interval.
-    max_ar_order : largest AR order tried for prewhitening.
-
-    Returns
-    -------
-    CrossCorrelationResult
-    """
-    if variant not in VARIANTS:
-        raise DegasError(f"unknown variant {variant!r}; valid: {', '.join(VARIANTS)}")
-    if normalisation not in NORMALISATIONS:
-        raise DegasError(f"unknown normalisation {normalisation!r}; valid: {', '.join(NORMALISATIONS)}")
-    if surrogate not in SURROGATE_METHODS:
-        raise DegasError(f"unknown surrogate method {surrogate!r}; valid: {', '.join(SURROGATE_METHODS)}")
-    g, m, idx, step_td = _pair(gas, magma, step)
-    L = _lag_bins(max_lag, step_td)
+def _prepare(g: np.ndarray, m: np.ndarray, L: int, variant: str, max_ar_order: int, gas_name: str,
+             magma_name: str) -> tuple[np.ndarray, np.ndarray, int, int, int, Prewhitening | None, list[str]]:
+    """The pair as :func:`cross_correlate` correlates it: trimmed to the overlap [lo, hi) of n bins, transformed
+    by ``variant`` (prewhitening filter ``pw`` fitted here) and trimmed of bins lost to the filter; with notes."""
     notes: list[str] = []
-
     gv, mv = np.isfinite(g), np.isfinite(m)
     if not gv.any():
         raise NotEnoughDataError(f"the {gas_name} series has no valid values on the grid")
@@ -726,6 +679,60 @@ def cross_correlate(
     if ok.size == 0:
         raise NotEnoughDataError(f"no valid ({gas_name}, {magma_name}) pairs after the {variant} transform")
     g, m = g[ok[0] : ok[-1] + 1], m[ok[0] : ok[-1] + 1]  # drop bins lost to the filter at the ends
+    return g, m, int(lo), int(hi), n, pw, notes
+
+
+def cross_correlate(
+    gas,
+    magma,
+    *,
+    max_lag: int | str | pd.Timedelta = "60D",
+    step: str | pd.Timedelta | None = None,
+    variant: str = "prewhitened",
+    normalisation: str = "pearson",
+    n_surrogates: int = 1000,
+    surrogate: str = "phase",
+    seed: int | None = 0,
+    n_boot: int = 500,
+    block_length: int | None = None,
+    ci_level: float = 0.95,
+    max_ar_order: int = 10,
+    gas_name: str = "gas",
+    magma_name: str = "magma output",
+) -> CrossCorrelationResult:
+    """Cross-correlate gas flux with magma output over lags -max_lag..max_lag.
+
+    Parameters
+    ----------
+    gas, magma : pandas Series on the same regular UTC grid (e.g. two columns of an AlignedTable),
+        or 1-D arrays with ``step``. Gas flux in kg/s, magma output in m³/s or eruptive fraction
+        (units do not affect r). NaN = missing bin.
+    max_lag : largest lag, as a duration ("60D") or a number of bins.
+    step : grid step; inferred from a DatetimeIndex.
+    variant : "prewhitened" (AR(p) by AIC fitted to magma output, both filtered), "raw",
+        "differenced".
+    normalisation : "pearson" (pairwise complete), "biased", "adjusted" (statsmodels-compatible).
+    n_surrogates : surrogates for the max-|r| test (0 disables it).
+    surrogate : "phase" (Theiler et al. 1992) or "iaaft" (Schreiber & Schmitz 1996).
+    seed : seed of the numpy Generator used for surrogates and bootstrap.
+    n_boot : block-bootstrap replicates for the best-lag interval (0 disables it).
+    block_length : bootstrap block length in bins; default max(5, round(n ** (1/3))).
+    ci_level : level of the best-lag percentile interval.
+    max_ar_order : largest AR order tried for prewhitening.
+
+    Returns
+    -------
+    CrossCorrelationResult
+    """
+    if variant not in VARIANTS:
+        raise DegasError(f"unknown variant {variant!r}; valid: {', '.join(VARIANTS)}")
+    if normalisation not in NORMALISATIONS:
+        raise DegasError(f"unknown normalisation {normalisation!r}; valid: {', '.join(NORMALISATIONS)}")
+    if surrogate not in SURROGATE_METHODS:
+        raise DegasError(f"unknown surrogate method {surrogate!r}; valid: {', '.join(SURROGATE_METHODS)}")
+    g, m, idx, step_td = _pair(gas, magma, step)
+    L = _lag_bins(max_lag, step_td)
+    g, m, lo, hi, n, pw, notes = _prepare(g, m, L, variant, max_ar_order, gas_name, magma_name)
     basis = _LagBasis(m, L)
     gvalid = np.isfinite(g)
     if normalisation == "pearson":
