@@ -58,12 +58,14 @@ def quakes_from_counts(counts: ClassCounts, read_notes: list[str], step: str, cl
     for c in (*rates.classes, "total"):
         v = per[c]
         counted = int(v.notna().sum())
-        n = int(v.sum(skipna=True))
+        n = int(v.sum(skipna=True)) if counted else None  # no bin counted: unknown, not zero
         rate = n / (counted * days) if counted else float("nan")
         peak = "-" if not counted else str(int(v.max()))
-        table.add_row(c, str(n), f"{counted}/{len(v)}", "-" if not counted else f"{rate:.3g}", peak)
+        table.add_row(c, "-" if n is None else str(n), f"{counted}/{len(v)}", "-" if not counted else f"{rate:.3g}",
+                      peak)
         summary[c] = {"events": n, "bins_counted": counted, "per_day": rate}
     console.print(table)
+    console.print("total: only bins in which every class shown was counted", markup=False)
     console.print(f"energy, completeness and b-value not available: {NO_MAGNITUDES}", markup=False)
     notes = list(dict.fromkeys([*read_notes, *rates.notes]))
     for note in notes:

@@ -271,3 +271,20 @@ def test_sheet_all_reject_rows_name_one_sheet(tmp_path):
     res = read(tmp_path / "years.xlsx", ReadOptions(sheet="all", species="SO2"))
     assert sorted(res.rejects["line"].tolist()) == [3, 5]  # 2019 row 3; 2020 row 2 -> 2 + 3
     assert any("sheet '2020' row N is row N+3" in n for n in res.notes)
+
+
+def test_counts_total_is_unknown_not_zero_when_no_bin_was_fully_counted(tmp_path, capsys):
+    """A class left uncounted every day makes the total unknown ("-"), never "0 events" (review of issue 11)."""
+    import json
+
+    from degas.cli import main  # noqa: F401  (registers every command)
+    from degas.cli._app import run
+
+    f = tmp_path / "counts_gappy.csv"
+    f.write_text("Date,VT,LP\n2023-02-01,2,\n2023-02-02,3,\n2023-02-03,1,\n", encoding="utf-8")
+    out = tmp_path / "q.json"
+    assert run(["quakes", str(f), "--json", str(out)]) == 0
+    text = capsys.readouterr().out
+    assert "every class shown was counted" in text
+    total = json.loads(out.read_text())["classes"]["total"]
+    assert total["events"] is None and total["bins_counted"] == 0
