@@ -238,20 +238,7 @@ def test_a_reader_retries_when_a_writer_switched_generations(tmp_path, write):
 
 # ------------------------------------------------------------------ kill and concurrency, with links and tampering
 
-KILLER = textwrap.dedent(
-    """
-    import sys, time
-    import pyarrow.parquet as pq
-    from degas.store import Archive
-    real = pq.write_table
-    def slow(table, where, *a, **k):
-        real(table, where, *a, **k)
-        print("WROTE", flush=True)
-        time.sleep(60)   # killed here: the new generation file exists, the manifest is not replaced yet
-    pq.write_table = slow
-    Archive.open(sys.argv[1]).ingest_file(sys.argv[2])
-    """
-)
+from tests.test_store import KILLER  # noqa: E402  (the same kill-during-write script)
 
 
 def _kill_mid_ingest(write, root: Path, f: Path) -> None:

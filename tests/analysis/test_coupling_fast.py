@@ -14,6 +14,7 @@ from scipy.signal import lfilter
 
 from degas.analysis.coupling import rolling_coupling
 from degas.analysis.xcorr import cross_correlate
+from tests.analysis.null_pairs import gapped_red_noise_pairs
 
 
 def _gapped_pair(n: int, coupled: bool, seed: int):
@@ -70,16 +71,8 @@ def test_window_surrogate_test_keeps_its_size_with_gaps():
 
     rng = np.random.default_rng(20261202)
     n, L, n_pairs, n_surr = 300, 8, 600, 99
-    phis_g, phis_m = (0.5, 0.8, 0.9), (0.3, 0.7, 0.9)
     rejected = 0
-    for i in range(n_pairs):
-        g = lfilter([1.0], [1.0, -phis_g[i % 3]], rng.standard_normal(n + 200))[200:]
-        m = lfilter([1.0], [1.0, -phis_m[(i // 3) % 3]], rng.standard_normal(n + 200))[200:]
-        miss = rng.random(n) < 0.15
-        a = int(rng.integers(0, n - n // 10))
-        miss[a : a + n // 10] = True
-        g[miss] = np.nan
-        m[rng.random(n) < 0.05] = np.nan
+    for i, (g, m) in enumerate(gapped_red_noise_pairs(rng, n, n_pairs)):
         p = _window(g, m, L, n_surr, i, "prewhitened", 5, "gas", "magma output")[2]
         rejected += p <= 0.05
     rate = rejected / n_pairs

@@ -23,6 +23,7 @@ from degas.analysis.xcorr import (
     cross_correlate,
     surrogate_test,
 )
+from tests.analysis.null_pairs import gapped_red_noise_pairs
 
 
 def _gappy(n, seed, share=0.25):
@@ -102,16 +103,8 @@ def test_surrogate_test_keeps_its_size_with_gaps():
     # 5 ± 1.5 % of them. Filling the gaps with the mean (the old surrogates) whitens the surrogates.
     rng = np.random.default_rng(20261202)
     n, L, n_pairs, n_surr = 300, 8, 800, 199
-    phis_g, phis_m = (0.5, 0.8, 0.9), (0.3, 0.7, 0.9)
     rejected = 0
-    for i in range(n_pairs):
-        g = lfilter([1.0], [1.0, -phis_g[i % 3]], rng.standard_normal(n + 200))[200:]
-        m = lfilter([1.0], [1.0, -phis_m[(i // 3) % 3]], rng.standard_normal(n + 200))[200:]
-        miss = rng.random(n) < 0.15
-        a = int(rng.integers(0, n - n // 10))
-        miss[a : a + n // 10] = True
-        g[miss] = np.nan
-        m[rng.random(n) < 0.05] = np.nan
+    for i, (g, m) in enumerate(gapped_red_noise_pairs(rng, n, n_pairs)):
         p = surrogate_test(g, m, L, n_surrogates=n_surr, seed=i)[0]
         rejected += p <= 0.05
     rate = rejected / n_pairs
