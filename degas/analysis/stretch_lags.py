@@ -184,12 +184,18 @@ def stretch_lags(
             ph[:, -1] = 0.0
         sur = np.fft.irfft(spec[None, :] * np.exp(1j * ph), n=n, axis=1)
         sur[:, ~np.isfinite(qd)] = np.nan
-        qs_ = np.where(inside[None], sur[:, np.clip(j, 0, n - 1)], np.nan)  # (S, m, lags)
-        oks = np.isfinite(qs_)
-        gzs = np.where(oks, gv[None], 0.0)
-        qzs = np.where(oks, qs_, 0.0)
-        ss = np.stack([np.stack([(x * mg[None, :, None]).sum(1) for mg in member], axis=1)
-                       for x in (oks.astype(float), gzs, qzs, gzs * gzs, qzs * qzs, gzs * qzs)], axis=-1)
+        # sums per surrogate, group and lag, in chunks of surrogates so memory stays O(m·lags) (issue 12)
+        memberf = member.astype(float)
+        jc = np.clip(j, 0, n - 1)
+        ss = np.empty((n_surrogates, n_grp, len(lags), 6))
+        chunk = max(1, 2_000_000 // max(1, j.size))
+        for c0 in range(0, n_surrogates, chunk):
+            qs_ = np.where(inside[None], sur[c0:c0 + chunk][:, jc], np.nan)  # (chunk, m, lags)
+            oks = np.isfinite(qs_)
+            gzs = np.where(oks, gv[None], 0.0)
+            qzs = np.where(oks, qs_, 0.0)
+            for k, x in enumerate((oks.astype(float), gzs, qzs, gzs * gzs, qzs * qzs, gzs * qzs)):
+                ss[c0:c0 + chunk, :, :, k] = np.tensordot(memberf, x, axes=([1], [1])).transpose(1, 0, 2)
         rs, _ = corr(ss)
         p_value = float((1 + np.sum(np.nanmax(rs, axis=1) >= r[best])) / (1 + n_surrogates))
     block, _ = block_length(gd[pos])
@@ -202,8 +208,12 @@ def stretch_lags(
         starts = rng.integers(0, len(pos) - block + 1, size=(n_boot, n_blocks))
         cs = np.concatenate([np.zeros((n_grp, 1, len(lags), 6)),
                              np.cumsum(member[:, :, None, None] * parts[None], axis=1)], axis=1)
-        sums = (cs[:, starts + block] - cs[:, starts]).sum(axis=2)  # (groups, B, lags, 6)
-        rb, sb = corr(np.moveaxis(sums, 0, 1))
+        # each replicate's sum = Σ over its chosen starts of one block's sums: a count per start and one product,
+        # so no (groups, B, blocks, lags, 6) array is ever built (issue 12: memory)
+        counts = np.zeros((n_boot, len(pos) - block + 1))
+        np.add.at(counts, (np.arange(n_boot)[:, None], starts), 1.0)
+        block_sums = cs[:, block:] - cs[:, : len(pos) - block + 1]  # (groups, starts, lags, 6)
+        rb, sb = corr(np.tensordot(counts, block_sums, axes=([1], [1])))  # (B, groups, lags, 6)
         rb = np.where(np.isfinite(rb), rb, -np.inf)
         bl = lags[np.argmax(rb, axis=1)]
         a = (1 - ci_level) / 2
