@@ -442,7 +442,7 @@ class Archive:
             provenance = list(record.provenance)
             meta = record.meta
         if getattr(self, "_contrib", None) is not None:  # keys this source supplied/added, for 'degas forget'
-            self._contrib.setdefault(sid, []).extend(
+            self._contrib.setdefault(sid, []).append(
                 _supplied_keys(new, old if prev_entry is not None else None, merged, rtype))
         sort_col = "start" if rtype == "Chronology" else "time"
         merged = merged.sort_values(sort_col, kind="stable").reset_index(drop=True)
@@ -737,47 +737,69 @@ def _source_key(sha: str, options: ReadOptions | None, sources: dict) -> str:
     return f"{sha}#{col}"
 
 
-def _key_strings(df: pd.DataFrame, rtype: str) -> list[str]:
+def _joined(df: pd.DataFrame) -> pd.Series:
+    """Each row's cells as text joined by "|" (missing cells as "<NA>"), by Arrow's compute kernels: a million
+    rows in well under a second (a row-wise join took ~10 s per 200k rows)."""
+    import pyarrow as pa
+    import pyarrow.compute as pc
+
+    if not len(df.columns):
+        return pd.Series([""] * len(df), dtype=object)
+    arrs = []
+    for c in df.columns:
+        col = df[c]
+        try:
+            a = pc.cast(pa.Array.from_pandas(col), pa.string())
+        except (pa.ArrowInvalid, pa.ArrowNotImplementedError, pa.ArrowTypeError):
+            a = pa.array(col.astype(str).fillna("<NA>").to_numpy(dtype=object), pa.string())
+        arrs.append(pc.fill_null(a, "<NA>"))
+    joined = arrs[0] if len(arrs) == 1 else pc.binary_join_element_wise(*arrs, "|")
+    return pd.Series(joined, dtype=pd.ArrowDtype(pa.string()))
+
+
+def _key_series(df: pd.DataFrame, rtype: str) -> pd.Series:
     """Row keys as text (the archive's merge keys), for recording and matching contributed rows."""
     kf = _key_frame(df, _KEYS[rtype])
-    if not len(kf):
-        return []
-    cols = [kf[c].astype(str) for c in kf.columns]  # column-wise (a row-wise join took ~10 s per 200k rows)
-    out = cols[0]
-    for c in cols[1:]:
-        out = out + "|" + c
-    return out.tolist()
+    return _joined(kf).reset_index(drop=True) if len(kf) else pd.Series([], dtype=object)
+
+
+def _key_strings(df: pd.DataFrame, rtype: str) -> list[str]:
+    return _key_series(df, rtype).tolist()
 
 
 def _supplied_keys(new: pd.DataFrame, old: pd.DataFrame | None, merged: pd.DataFrame,
-                   rtype: str) -> list[tuple[str, bool]]:
-    """(key, added) of every row of ``new`` that the merged series holds with ``new``'s values: rows it added
-    (added=True) and rows already stored identically or replaced (added=False); refused conflicts are left out."""
-    keys = _key_strings(new, rtype)
+                   rtype: str) -> pd.DataFrame:
+    """Columns key, added for every row of ``new`` that the merged series holds with ``new``'s values: rows it
+    added (added=True) and rows already stored identically or replaced (added=False); refused conflicts are
+    left out. Vectorised: a million-row ingest records its keys in well under a second."""
+    keys = _key_series(new, rtype)
     if old is None or not len(keys):
-        return [(k, True) for k in keys]
-    have = set(_key_strings(old, rtype))
-    mine = set(keys)
-    held = set(_row_strings(merged[[k in mine for k in _key_strings(merged, rtype)]]))
-    return [(k, k not in have) for k, r in zip(keys, _row_strings(new), strict=True) if r in held]
+        return pd.DataFrame({"key": keys, "added": np.ones(len(keys), bool)})
+    merged_keys = _key_series(merged, rtype)
+    held = _row_strings(merged.loc[merged_keys.isin(keys).to_numpy()])
+    supplied = _row_strings(new).isin(held).to_numpy()
+    added = ~keys.isin(_key_series(old, rtype)).to_numpy()
+    return pd.DataFrame({"key": keys[supplied].to_numpy(), "added": added[supplied]})
 
 
-def _row_strings(df: pd.DataFrame) -> list[str]:
-    return ["|".join(map(str, row)) for row in df.itertuples(index=False, name=None)]
+def _row_strings(df: pd.DataFrame) -> pd.Series:
+    return _joined(df).reset_index(drop=True)
 
 
-def _write_contrib(root: Path, gen: int, sha: str, contrib: dict[str, list[tuple[str, bool]]]) -> str | None:
+def _write_contrib(root: Path, gen: int, sha: str, contrib: dict[str, list[pd.DataFrame]]) -> str | None:
     """Write the keys each series received from one source (``contrib/g<N>-<sha8>.parquet``): series_id, key,
     added (False: the row was already stored identically, or this source replaced its value)."""
     import pyarrow as pa
     import pyarrow.parquet as pq
 
-    rows = [(sid, k, a) for sid, keys in contrib.items() for k, a in keys]
+    schema = pa.schema([("series_id", pa.string()), ("key", pa.string()), ("added", pa.bool_())])
+    tables = [pa.table({"series_id": pa.repeat(pa.scalar(sid, pa.string()), len(f)),
+                        "key": pa.Array.from_pandas(f["key"]).cast(pa.string()),
+                        "added": pa.array(f["added"].to_numpy(dtype=bool), pa.bool_())}, schema=schema)
+              for sid, frames in contrib.items() for f in frames]
+    table = pa.concat_tables(tables) if tables else schema.empty_table()
     rel = f"contrib/g{gen}-{sha[:8]}.parquet"
     (root / "contrib").mkdir(exist_ok=True)
-    table = pa.table({"series_id": [r[0] for r in rows], "key": [r[1] for r in rows],
-                      "added": [r[2] for r in rows]},
-                     schema=pa.schema([("series_id", pa.string()), ("key", pa.string()), ("added", pa.bool_())]))
     tmp = root / (rel + ".tmp")
     pq.write_table(table, tmp)
     _fsync_file(tmp)

@@ -30,6 +30,7 @@ CHILD = textwrap.dedent(
     from degas.store import Archive
     from degas.io.base import ReadOptions
     import degas.io.table, degas.units  # imports are paid once per process, not per file: not timed
+    degas.units._registry()  # so is building pint's unit registry (loaded lazily since issue 12)
     mode, csv_path, out = sys.argv[1], Path(sys.argv[2]), Path(sys.argv[3])
     base = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss
     t0 = time.perf_counter()
