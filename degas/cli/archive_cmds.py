@@ -61,8 +61,9 @@ def ingest_files(archive: Archive, items: list[tuple[Path, ReadOptions, str | No
 
 @app.command("ingest")
 def ingest(
-    files: list[Path] = typer.Argument(..., help="Files to ingest (CSV/TSV/semicolon text, .xlsx, Parquet, "
-                                                  "QuakeML, FDSN event text)."),
+    files: list[Path] | None = typer.Argument(None, help="Files to ingest (CSV/TSV/semicolon text, .xlsx, .xls, "
+                                                         "Parquet, QuakeML, FDSN event text); with --project and "
+                                                         "no files: the project's [[file]] list."),
     into: Path = typer.Option(..., "--into", help="Archive directory (created when missing)."),
     kind: str | None = typer.Option(None, help="gas_flux, gas_ratio, extrusion_rate, erupted_volume, chronology, "
                                                "seismic_catalog, event_counts, amplitude, other (default: "
@@ -95,6 +96,9 @@ def ingest(
                                                          "default) or 'up' (height above it)."),
     lock_timeout: float = typer.Option(60.0, "--lock-timeout", min=0.0, max=86400.0,
                                        help="Seconds to wait while another process writes to the archive."),
+    project: Path | None = typer.Option(None, "--project", help="Project TOML: a file named in its [[file]] list "
+                                                                "is read with that entry's options (options given "
+                                                                "here still apply on top)."),
 ) -> None:
     """Read monitoring exports into the archive (UTC, SI units, provenance); report every rejected row."""
     from degas.io.base import ReadOptions
@@ -105,17 +109,32 @@ def ingest(
     if kind is not None:
         options_from_dict({"kind": kind}, "--kind")  # validates the name before anything is read
     columns = {k: v for k, v in (("time", time_col), ("value", value_col)) if v}
-    options = merge_options(
-        base, kind=kind, species=species, station=station, columns=columns, units={"value": unit} if unit else None,
+    given = dict(
+        kind=kind, species=species, station=station, columns=columns, units={"value": unit} if unit else None,
         timezone=tz, dayfirst=dayfirst or None, time_format=time_format, vesicularity=vesicularity,
         bulk_density=bulk_density, dense_density=dense_density, allow_negative=allow_negative or None,
         **_extra_options(sheet, time_origin, time_unit, accept_approximate_dates, depth_positive),
     )
+    listed = {}
+    if project is not None:
+        from degas.project import load_project
+
+        listed = {p.name: (o, f) for p, o, f in project_file_items(load_project(project))}
+    if not files:
+        if not listed:
+            raise typer.BadParameter("give the files to ingest, or --project with a [[file]] list")
+        files = [p for p, _, _ in project_file_items(load_project(project))]
+    items = []
+    for f in files:
+        pbase, pfmt = listed.get(f.name, (None, None))
+        if pbase is not None:
+            console.print(f"{f.name}: reader options from the project's [[file]] entry", markup=False)
+        items.append((f, merge_options(base if pbase is None else pbase, **given), fmt or pfmt))
     archive = Archive.create(into, lock_timeout=lock_timeout)
     failed = 0
-    for f in files:
+    for item in items:
         try:
-            ingest_files(archive, [(f, options, fmt)], accept_conflicts=accept_conflicts, show_rejects=show_rejects)
+            ingest_files(archive, [item], accept_conflicts=accept_conflicts, show_rejects=show_rejects)
         except DegasError as exc:
             failed += 1
             err_console.print(f"degas: error: {one_line(str(exc), 2000)}", markup=False)
@@ -127,6 +146,19 @@ def ingest(
             err_console.print(f"degas: {failed} of {len(files)} file(s) not ingested; the archive keeps everything "
                               "stored before", markup=False)
         raise typer.Exit(2)
+
+
+def project_file_items(proj) -> list[tuple[Path, ReadOptions, str | None]]:
+    """The project's [[file]] entries as (path, reader options, format) for ingest_files."""
+    from degas.io.mapping import options_from_dict
+
+    items = []
+    for i, f in enumerate(proj.files):
+        entry = dict(f)
+        path = Path(entry.pop("path"))
+        fmt = entry.pop("format", None)
+        items.append((path, options_from_dict(entry, f"project [[file]] #{i + 1}"), fmt))
+    return items
 
 
 def _extra_options(sheet, time_origin, time_unit, accept_approximate_dates, depth_positive) -> dict:
@@ -156,11 +188,24 @@ def _extra_options(sheet, time_origin, time_unit, accept_approximate_dates, dept
 def inventory(
     archive_dir: Path = typer.Argument(..., help="Archive directory."),
     as_json: bool = typer.Option(False, "--json", help="Print JSON instead of a table."),
+    project: Path | None = typer.Option(None, "--project", help="Project TOML: also say which stored series the "
+                                                                "report and the analysis commands use as gas, "
+                                                                "magma output, ratio and catalogue."),
 ) -> None:
     """List every stored series: kind, quantity, station, time span, count, largest gap, units, sources."""
     from degas.store import Archive
 
-    print_inventory(Archive.open(archive_dir), as_json=as_json)
+    archive = Archive.open(archive_dir)
+    print_inventory(archive, as_json=as_json)
+    if project is not None and not as_json:
+        from degas.pipeline import choose_roles
+        from degas.project import load_project
+
+        roles = choose_roles(archive, load_project(project))
+        for role in ("gas", "magma", "ratio", "catalog"):
+            val = roles.get(role)
+            shown = ", ".join(val) if isinstance(val, list | tuple) else (val or "(none)")
+            console.print(f"project {role}: {shown}", markup=False)
 
 
 def print_inventory(archive: Archive, *, as_json: bool = False) -> None:

@@ -35,16 +35,9 @@ def _run(archive_dir: Path, project: Path | None, before: str | None, start: str
 
     proj = load_project(project) if project is not None else None
     if proj is not None and proj.files:
-        from degas.cli.archive_cmds import ingest_files
-        from degas.io.mapping import options_from_dict
+        from degas.cli.archive_cmds import ingest_files, project_file_items
 
-        items = []
-        for i, f in enumerate(proj.files):
-            entry = dict(f)
-            path = Path(entry.pop("path"))
-            fmt = entry.pop("format", None)
-            items.append((path, options_from_dict(entry, f"project [[file]] #{i + 1}"), fmt))
-        ingest_files(Archive.create(archive_dir), items, accept_conflicts=False, show_rejects=3)
+        ingest_files(Archive.create(archive_dir), project_file_items(proj), accept_conflicts=False, show_rejects=3)
     archive = Archive.open(archive_dir)
     proj = proj or _project(None, archive)
     if (start or end) and before:
