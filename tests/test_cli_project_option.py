@@ -12,7 +12,7 @@ from degas.store import Archive
 from tests.conftest import REPO
 
 PROJECT = """[volcano]
-name = "Tessel Ridge"
+name = "Velmarra"
 [[file]]
 path = "{path}"
 station = "TR-CAM"
@@ -22,7 +22,7 @@ station = "TR-CAM"
 def _setup(tmp_path):
     src = tmp_path / "camera_rates.csv"
     shutil.copy(REPO / "demo_series" / "extrusion_rate_camera_daily.csv", src)
-    proj = tmp_path / "tessel.toml"
+    proj = tmp_path / "velmarra_test.toml"
     proj.write_text(PROJECT.format(path=src.as_posix()), encoding="utf-8")
     return src, proj
 
