@@ -60,7 +60,7 @@ def depth_sentences(ctx, budget_ran: bool | None = None) -> list[str]:
                    "shallower than" if r.storage_p95_m < r.vt_p5_m else "partly inside")
             s += (f", {rel} the VT 5–95 % depth range of that phase ({_km_range(r.vt_p5_m, r.vt_p95_m)} km, "
                   f"{r.n_vt} located VT events); {r.overlap_share:.0%} of the inclusions' 95 % depth intervals "
-                  "overlap it.")
+                  f"overlap it and {r.inside_share:.0%} of their median depths lie inside it.")
         else:
             s += f"; too few located VT events in that phase ({r.n_vt}) to compare."
         out.append(s)
@@ -196,6 +196,7 @@ def phase_table(ctx) -> pd.DataFrame:
                                           zip(t["vt_p5_m"], t["vt_p25_m"], t["vt_p50_m"], t["vt_p75_m"],
                                               t["vt_p95_m"], strict=True)],
         "overlap share": ["n/a" if not np.isfinite(x) else f"{x:.0%}" for x in t["overlap_share"]],
+        "inside share": ["n/a" if not np.isfinite(x) else f"{x:.0%}" for x in t["inside_share"]],
     })
 
 
@@ -218,7 +219,8 @@ def add_depth_section(page, bundle) -> None:
                              "every located VT hypocentre; black line: their median depth per 30 days."))
     parts.append("<h3>Storage depth and VT depths per phase</h3>" + table_html(phase_table(ctx))
                  + '<p class="caption">Overlap share: inclusions whose 95 % depth interval overlaps the VT '
-                   "5–95 % depth range of the same phase.</p>")
+                   "5–95 % depth range of the same phase; inside share: inclusions whose median depth lies inside "
+                   "that range.</p>")
     br = getattr(ctx, "by_regime", None)
     if br is not None and len(br):
         shown = pd.DataFrame({"regime": br["label"], "VT events": br["n_vt"],

@@ -32,3 +32,5 @@ def test_report_has_the_section_with_numbers_and_cautions(demo_report):
     assert re.search(r"Inclusions from phase 1 \(16\) record \d+–\d+ MPa", html)
     assert "below sea level" in html and "minimum entrapment pressures" in html and "shrinkage bubbles" in html
     assert "Devine et al. 1984" in html
+    # the "share of inclusions inside the VT 5-95 % range" (central depths) beside the interval overlap
+    assert "inside share" in html and re.search(r"\d+% of their median depths lie inside it", html)
