@@ -784,6 +784,21 @@ def _deterministic_zip(data: bytes) -> bytes:
     return buf.getvalue()
 
 
+def save_workbook(wb, path: Path, *, creator: str | None = None) -> Path:
+    """Save an openpyxl workbook byte-identically run after run (fixed dates, deterministic zip)."""
+    import datetime as dt
+
+    fixed = dt.datetime(2026, 1, 5, 0, 0, 0)
+    wb.properties.created = fixed
+    wb.properties.modified = fixed
+    if creator is not None:
+        wb.properties.creator = creator
+    buf = io.BytesIO()
+    wb.save(buf)
+    path.write_bytes(_deterministic_zip(buf.getvalue()))
+    return path
+
+
 def _write_ratio(sc: Scenario, out: Path) -> Path:
     import datetime as dt
 
@@ -807,15 +822,7 @@ def _write_ratio(sc: Scenario, out: Path) -> Path:
     for w, o, s in zip(weeks, obs, sig, strict=True):
         ws.append([dt.datetime(w.year, w.month, w.day), round(float(o), 2), round(float(s), 2)])
         ws.cell(row=ws.max_row, column=1).number_format = "yyyy-mm-dd"
-    fixed = dt.datetime(2026, 1, 5, 0, 0, 0)
-    wb.properties.created = fixed
-    wb.properties.modified = fixed
-    wb.properties.creator = OBSERVATORY
-    buf = io.BytesIO()
-    wb.save(buf)
-    path = out / "co2_so2_ratio_weekly.xlsx"
-    path.write_bytes(_deterministic_zip(buf.getvalue()))
-    return path
+    return save_workbook(wb, out / "co2_so2_ratio_weekly.xlsx", creator=OBSERVATORY)
 
 
 def survey_dates(sc: Scenario) -> pd.DatetimeIndex:

@@ -12,7 +12,6 @@ and ``truth.json`` are untouched:
 from __future__ import annotations
 
 import datetime as dt
-import io
 from pathlib import Path
 
 import numpy as np
@@ -55,7 +54,7 @@ def _weekly_so2(sc) -> tuple[pd.DatetimeIndex, np.ndarray]:
 def _by_year(sc, out: Path) -> Path:
     from openpyxl import Workbook
 
-    from degas.demo import _deterministic_zip
+    from degas.demo import save_workbook
 
     weeks, vals = _weekly_so2(sc)
     wb = Workbook()
@@ -69,14 +68,7 @@ def _by_year(sc, out: Path) -> Path:
         for w, v in zip(weeks[weeks.year == year], vals[weeks.year == year], strict=True):
             ws.append([dt.datetime(w.year, w.month, w.day), float(v)])
             ws.cell(row=ws.max_row, column=1).number_format = "yyyy-mm-dd"
-    fixed = dt.datetime(2026, 1, 5, 0, 0, 0)
-    wb.properties.created = fixed
-    wb.properties.modified = fixed
-    buf = io.BytesIO()
-    wb.save(buf)
-    path = out / "so2_flux_by_year.xlsx"
-    path.write_bytes(_deterministic_zip(buf.getvalue()))
-    return path
+    return save_workbook(wb, out / "so2_flux_by_year.xlsx")
 
 
 def _day_numbers(sc, out: Path) -> Path:

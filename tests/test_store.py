@@ -9,6 +9,7 @@ import subprocess
 import sys
 import textwrap
 import time
+from pathlib import Path
 
 import numpy as np
 import pandas as pd
@@ -124,6 +125,22 @@ def test_rates_from_cumulative_survey_volumes_are_interval_valued():
     assert rate.meta.kind == "extrusion_rate" and rate.is_interval
 
 
+def start_killer(write, root: Path, f: Path) -> subprocess.Popen:
+    """Start an ingest of ``f`` into ``root`` that stops right after writing its new generation file (before the
+    manifest is replaced); return the process once it has reached that point, to be killed by the caller."""
+    script = write("killer.py", KILLER)
+    proc = subprocess.Popen([sys.executable, str(script), str(root), str(f)], stdout=subprocess.PIPE,
+                            env={**os.environ, "PYTHONPATH": os.pathsep.join(sys.path)})
+    deadline = time.time() + 60
+    line = b""
+    while time.time() < deadline and b"WROTE" not in line:
+        line = proc.stdout.readline()
+        if not line and proc.poll() is not None:
+            break
+    assert b"WROTE" in line, "the writer never reached the write"
+    return proc
+
+
 KILLER = textwrap.dedent(
     """
     import sys, time
@@ -147,16 +164,7 @@ def test_kill_mid_ingest_leaves_archive_as_it_was(write, tmp_path):
     manifest_before = (root / "manifest.json").read_text()
     data_before = arc.load(arc.entries()[0].series_id).data
     f2 = write("w2.csv", week("2024-01-08"))
-    script = write("killer.py", KILLER)
-    proc = subprocess.Popen([sys.executable, str(script), str(root), str(f2)], stdout=subprocess.PIPE,
-                            env={**os.environ, "PYTHONPATH": os.pathsep.join(sys.path)})
-    deadline = time.time() + 60
-    line = b""
-    while time.time() < deadline and b"WROTE" not in line:
-        line = proc.stdout.readline()
-        if not line and proc.poll() is not None:
-            break
-    assert b"WROTE" in line, "the writer never reached the write"
+    proc = start_killer(write, root, f2)
     proc.send_signal(signal.SIGKILL)
     proc.wait(10)
     assert (root / "manifest.json").read_text() == manifest_before

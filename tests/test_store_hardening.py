@@ -238,20 +238,11 @@ def test_a_reader_retries_when_a_writer_switched_generations(tmp_path, write):
 
 # ------------------------------------------------------------------ kill and concurrency, with links and tampering
 
-from tests.test_store import KILLER  # noqa: E402  (the same kill-during-write script)
+from tests.test_store import start_killer  # noqa: E402  (the same kill-during-write script)
 
 
 def _kill_mid_ingest(write, root: Path, f: Path) -> None:
-    script = write("killer.py", KILLER)
-    proc = subprocess.Popen([sys.executable, str(script), str(root), str(f)], stdout=subprocess.PIPE,
-                            env={**os.environ, "PYTHONPATH": os.pathsep.join(sys.path)})
-    deadline = time.time() + 60
-    line = b""
-    while time.time() < deadline and b"WROTE" not in line:
-        line = proc.stdout.readline()
-        if not line and proc.poll() is not None:
-            break
-    assert b"WROTE" in line, "the writer never reached the write"
+    proc = start_killer(write, root, f)
     proc.kill()
     proc.wait(10)
 
