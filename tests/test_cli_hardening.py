@@ -77,7 +77,8 @@ def test_mapping_values_out_of_range_name_the_file_and_key(write, tmp_path, caps
     _one_line_error(capsys, rc, "m.toml", "vesicularity", "[0, 1)")
 
 
-@pytest.mark.parametrize("argv,fragment", [(["ingest"], "Missing argument"), (["nosuch"], "No such command"),
+@pytest.mark.parametrize("argv,fragment", [(["inventory"], "Missing argument"), (["ingest"], "Missing option"),
+                                           (["nosuch"], "No such command"),
                                            (["ingest", "x", "--into", "y", "--show-rejects", "abc"], "--show-rejects")])
 def test_command_line_mistakes_are_one_line(capsys, argv, fragment):
     rc = run(argv)

@@ -42,7 +42,7 @@ def depths(
                          "--kind melt_inclusions)")
     shown = phase_table(ctx)
     shown.columns = ["phase", "n", "P MPa (5–95 %)", "km b.s.l. (5–95 %)", "VT", "VT km b.s.l. 5/25/50/75/95 %",
-                     "overlap"]
+                     "overlap", "inside"]
     table = Table(title=f"Storage depth and VT depth per phase ({ctx.series_id})")
     for c in shown.columns:
         table.add_column(str(c))
