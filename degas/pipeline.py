@@ -342,25 +342,6 @@ def _regimes(b: RunBundle) -> None:
     b.regimes = res
 
 
-def _phase_segments(b: RunBundle) -> pd.DataFrame:
-    """Segments (start, end, level = eruptive fraction 1 or 0) from the chronology's phases, over the gas span."""
-    ch = b.records["chronology"].data
-    seg = b.changepoints["gas"].segments
-    lo, hi = seg["start"].min(), seg["end"].max()
-    rows = []
-    for r in ch.itertuples():
-        start = max(r.start, lo)
-        end = min(hi if pd.isna(r.end) else r.end, hi)
-        if end > start and r.state in ("eruptive", "pause"):
-            rows.append({"start": start, "end": end, "level": 1.0 if r.state == "eruptive" else 0.0})
-    if not rows:
-        raise DegasError("the chronology has no eruptive or pause phase over the gas record")
-    out = pd.DataFrame(rows).sort_values("start").reset_index(drop=True)
-    # fill holes between phases as unknown-free continuity: a phase ends where the next begins
-    out["end"] = np.minimum(out["end"].to_numpy(), np.r_[out["start"].to_numpy()[1:], out["end"].to_numpy()[-1:]])
-    return out[out["end"] > out["start"]].reset_index(drop=True)
-
-
 def _gas_magma(b: RunBundle) -> tuple[pd.Series, pd.Series]:
     if "gas" not in b.aligned.kinds:
         raise DegasError("no gas flux series in the archive")

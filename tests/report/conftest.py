@@ -21,13 +21,16 @@ def demo_archive(tmp_path_factory):
     return build_demo_archive(REPO / "demo_series", root / "archive")
 
 
-@pytest.fixture(scope="session")
-def demo_bundle(demo_archive):
+def _demo_run(archive, mode: str):
     from degas.pipeline import run_all
     from degas.project import load_project
 
-    project = load_project(REPO / "demo_series" / "velmarra.toml")
-    return run_all(demo_archive, project, mode="retrospective")
+    return run_all(archive, load_project(REPO / "demo_series" / "velmarra.toml"), mode=mode)
+
+
+@pytest.fixture(scope="session")
+def demo_bundle(demo_archive):
+    return _demo_run(demo_archive, "retrospective")
 
 
 @pytest.fixture(scope="session")
@@ -42,11 +45,7 @@ def demo_report(demo_bundle, tmp_path_factory):
 
 @pytest.fixture(scope="session")
 def demo_weekly_bundle(demo_archive):
-    from degas.pipeline import run_all
-    from degas.project import load_project
-
-    project = load_project(REPO / "demo_series" / "velmarra.toml")
-    return run_all(demo_archive, project, mode="weekly")
+    return _demo_run(demo_archive, "weekly")
 
 
 @pytest.fixture(scope="session")

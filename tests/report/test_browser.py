@@ -64,18 +64,23 @@ class _Probe(HTMLParser):
             self.text += data
 
 
-def test_demo_report_renders_offline_in_chromium(demo_report, demo_bundle, tmp_path):
-    path, _ = demo_report
-    html = path.read_text(encoding="utf-8")
+def _run_probe(html: str, probe: str, flags: list[str], tmp_path) -> dict:
+    """Load ``html`` with ``probe`` injected in headless Chromium and return what the probe wrote (JSON)."""
     probed = tmp_path / "probed.html"
-    probed.write_text(html.replace("<head>", "<head>" + PROBE, 1), encoding="utf-8")
-    user = tmp_path / "profile"
-    dom = subprocess.run([CHROMIUM, *FLAGS, f"--user-data-dir={user}", "--dump-dom", probed.as_uri()],
-                         capture_output=True, text=True, timeout=180)
+    probed.write_text(html.replace("<head>", "<head>" + probe, 1), encoding="utf-8")
+    dom = subprocess.run([CHROMIUM, *flags, f"--user-data-dir={tmp_path / 'profile'}", "--dump-dom",
+                          probed.as_uri()], capture_output=True, text=True, timeout=180)
     parser = _Probe()
     parser.feed(dom.stdout)
     assert parser.text, f"the probe did not run; chromium said: {dom.stderr[-2000:]}"
-    out = json.loads(parser.text)
+    return json.loads(parser.text)
+
+
+def test_demo_report_renders_offline_in_chromium(demo_report, demo_bundle, tmp_path):
+    path, _ = demo_report
+    html = path.read_text(encoding="utf-8")
+    out = _run_probe(html, PROBE, FLAGS, tmp_path)
+    user = tmp_path / "profile"
     assert out["errors"] == []
     assert out["figures"], "no plotly figure on the page"
     for fid, n_svg in out["figures"]:
@@ -109,17 +114,9 @@ window.addEventListener('load', () => setTimeout(() => {
 
 def test_weekly_brief_fits_one_1400x1000_screen(demo_weekly_report, tmp_path):
     html = demo_weekly_report.read_text(encoding="utf-8")
-    probed = tmp_path / "brief.html"
-    probed.write_text(html.replace("<head>", "<head>" + BRIEF_PROBE, 1), encoding="utf-8")
     flags = [f for f in FLAGS if not f.startswith("--window-size")] + ["--window-size=1400,1000",
                                                                        "--hide-scrollbars"]
-    user = tmp_path / "profile"
-    dom = subprocess.run([CHROMIUM, *flags, f"--user-data-dir={user}", "--dump-dom", probed.as_uri()],
-                         capture_output=True, text=True, timeout=180)
-    parser = _Probe()
-    parser.feed(dom.stdout)
-    assert parser.text, f"the probe did not run; chromium said: {dom.stderr[-2000:]}"
-    out = json.loads(parser.text)
+    out = _run_probe(html, BRIEF_PROBE, flags, tmp_path)
     # a 1400x1000 window (its viewport is a little less high than the window: the browser's own frame)
     assert out["width"] == 1400 and out["height"] <= 1000
     assert 0 <= out["top"] and out["bottom"] <= out["height"], out  # the whole brief on the first screen
@@ -131,6 +128,6 @@ def test_weekly_brief_fits_one_1400x1000_screen(demo_weekly_report, tmp_path):
     assert [r for r in out["rows"] if "events" in r][0].startswith("LP + hybrid")
     assert out["sparks"] == len(out["rows"])
     shot = tmp_path / "weekly_brief.png"
-    subprocess.run([CHROMIUM, *flags, f"--user-data-dir={user}", f"--screenshot={shot}",
+    subprocess.run([CHROMIUM, *flags, f"--user-data-dir={tmp_path / 'profile'}", f"--screenshot={shot}",
                     demo_weekly_report.as_uri()], capture_output=True, timeout=180)
     assert shot.exists() and shot.stat().st_size > 10_000
