@@ -408,8 +408,9 @@ def _budget(b: RunBundle) -> None:
     petro = b.project.petrology
     from degas.depths import inclusion_petrology
 
-    if inclusion_petrology(b.depths) is not None:  # S populations of the inclusions beat three typed numbers
-        petro = inclusion_petrology(b.depths)
+    ip = inclusion_petrology(b.depths)
+    if ip is not None:  # S populations of the inclusions beat three typed numbers
+        petro = ip
         b.notes.append(f"petrological SO2 from the inclusions: {petro.source}")
     unc = b.aligned.frame.get("magma_uncertainty")
     g, gu, stations, systematic = _budget_gas(b, g)

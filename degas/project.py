@@ -243,7 +243,7 @@ _SECTIONS = {
                  "variant": "variant", "seed": "seed"},
     "changepoints": {"min_segment": "min_segment", "max_gap": "max_gap", "penalty": "penalty"},
     "regimes": {"gas_factor": "gas_factor", "magma_threshold": "magma_threshold", "ratio_low": "ratio_low",
-                "ratio_high": "ratio_high"},
+                "ratio_high": "ratio_high", "gas_background": "gas_background", "relation_band": "relation_band"},
     "review": {"window_days": "window_days", "baseline_days": "baseline_days", "brief_weeks": "brief_weeks"},
     "seismicity": {"lp_classes": "lp_classes", "b_window_events": "b_window_events"},
 }

@@ -851,9 +851,9 @@ def _read_contrib(archive: Archive, src: dict) -> dict[str, set] | None:
     """series_id -> keys a source supplied (older contrib files without ``added`` list the added keys)."""
     import pyarrow.parquet as pq
 
-    if not src.get("contrib_file") or not (archive.root / src["contrib_file"]).exists():
+    if not src.get("contrib_file") or not archive._path(src["contrib_file"], "contrib_file").exists():
         return None
-    t = pq.read_table(archive.root / src["contrib_file"]).to_pandas()
+    t = pq.read_table(archive._path(src["contrib_file"], "contrib_file")).to_pandas()
     return {sid: set(g["key"]) for sid, g in t.groupby("series_id")}
 
 
@@ -890,7 +890,7 @@ def forget(archive: Archive, source: str | Path) -> ForgetReport:
             prov = [Provenance.from_dict(p) for p in entry["provenance"]]
             others = [p for p in prov if p.sha256 != sha]
             rtype = entry["record_type"]
-            old = conform(pq.read_table(archive.root / entry["file"]).to_pandas(), rtype)
+            old = conform(pq.read_table(archive._path(entry["file"], "series file")).to_pandas(), rtype)
             if not others:
                 keep = np.zeros(len(old), dtype=bool)
             elif contrib is None:
@@ -938,6 +938,6 @@ def forget(archive: Archive, source: str | Path) -> ForgetReport:
         old_files |= {src.get("rejects_file"), src.get("contrib_file")} - {None}
         archive._manifest = manifest
         for f in old_files:
-            with contextlib.suppress(OSError):
-                (archive.root / f).unlink()
+            with contextlib.suppress(OSError, ArchiveError):  # a path outside the archive is never deleted
+                archive._path(f, "superseded file").unlink()
     return rep

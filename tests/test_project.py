@@ -32,3 +32,12 @@ def test_defaults_when_nothing_is_given():
     p = project_from_dict({})
     assert p == Project()
     assert p.petrology is None and p.window_days == 7 and p.baseline_days == 90
+
+
+def test_regime_relation_settings_load_from_the_project_file():
+    # review: [regimes] relation_band and gas_background were refused as unknown keys, so the run's defaults
+    # could not be changed from a project file
+    from degas.project import project_from_dict
+
+    p = project_from_dict({"regimes": {"relation_band": 0.3, "gas_background": 150}})
+    assert p.relation_band == 0.3 and p.gas_background == 150

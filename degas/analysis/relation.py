@@ -202,17 +202,9 @@ def petrological_expectation(petrology, *, n_draws: int = 4000, seed: int | None
     ``petrology`` is a :class:`degas.analysis.budget.PetrologyInputs` (its central value is
     ``so2_per_m3``; the interval draws each input from a normal with its 1-sigma).
     """
-    from degas.analysis.budget import SO2_PER_S
-
-    rng = np.random.default_rng(seed)
-    p = petrology
-    mi = rng.normal(p.s_melt_inclusion, p.s_melt_inclusion_sd, n_draws)
-    mg = rng.normal(p.s_matrix_glass, p.s_matrix_glass_sd, n_draws)
-    rho = rng.normal(p.density_kg_m3, p.density_sd, n_draws)
-    xc = np.clip(rng.normal(p.crystal_fraction, p.crystal_fraction_sd, n_draws), 0, 0.99)
-    draws = SO2_PER_S * (mi - mg) * rho * (1 - xc)
+    draws = petrology.sample_so2_per_m3(n_draws, seed)  # the budget's own sampler (same clipping)
     lo, hi = np.percentile(draws, [2.5, 97.5])
-    return float(p.so2_per_m3), (float(lo), float(hi))
+    return float(petrology.so2_per_m3), (float(lo), float(hi))
 
 
 def fit_relation(
@@ -305,8 +297,9 @@ def fit_relation(
     pk, pk_ci = np.nan, (np.nan, np.nan)
     if petrology is not None and magma_measure == "extrusion_rate":
         pk, pk_ci = petrological_expectation(petrology, seed=seed)
-        notes.append(f"k beside the petrological expectation (Devine et al. 1984): {k:.4g} vs {pk:.4g} kg SO2/m³ "
-                     "DRE; the petrological value is a minimum (melt-inclusion sulphur only)")
+        notes.append(f"k beside the petrological expectation (Devine et al. 1984): {k:.4g} (95 % {k_ci[0]:.4g} to "
+                     f"{k_ci[1]:.4g}) vs {pk:.4g} (95 % {pk_ci[0]:.4g} to {pk_ci[1]:.4g}) kg SO2/m³ DRE; the "
+                     "petrological value is a minimum (melt-inclusion sulphur only)")
     if magma_measure == "extrusion_rate_unknown_basis":
         notes.append("the extrusion rate's DRE/bulk basis is unknown: k is per m³ of that unknown basis")
     if fit_mask is not None and sel.sum() < both.sum():

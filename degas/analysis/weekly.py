@@ -18,6 +18,9 @@ from degas.errors import ConfigError
 
 #: the order of the weekly review: what matters first (not alphabetical)
 ROLE_ORDER: tuple[str, ...] = ("gas", "magma", "lp_hybrid", "vt", "amplitude", "ratio", "other")
+#: role of a sampled series in the weekly review, by kind (anything else: "other")
+ROLE_OF_KIND: dict[str, str] = {"gas_flux": "gas", "extrusion_rate": "magma", "amplitude": "amplitude",
+                                "gas_ratio": "ratio"}
 _KEYS = {"above", "below", "ratio_above", "ratio_below", "label"}
 
 

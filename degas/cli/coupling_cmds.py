@@ -410,8 +410,8 @@ def budget(
                                          crystal_fraction_sd=crystals_sd)
     flag_notes: list[str] = []
     if project is not None:  # the report's budget: regimes as segments, the project's petrology and series
-        b = _run_project(archive_dir, project, ("regimes", "gas budget"), gas=gas, magma=extrusion, step=step,
-                         min_coverage=min_coverage, petrology=petro)
+        b = _run_project(archive_dir, project, ("regimes", "storage depths", "gas budget"), gas=gas,
+                         magma=extrusion, step=step, min_coverage=min_coverage, petrology=petro)
         if b.budget is None:
             raise DegasError("; ".join(b.skipped) or "the budget could not be computed")
         res, tab, petro = b.budget, b.aligned, b.project.petrology

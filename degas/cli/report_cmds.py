@@ -126,9 +126,9 @@ def weekly(
                     f"{per.baseline_days:.0f}-day baseline", box=box.SIMPLE_HEAD)
     for c in ("series", "unit", "week", "baseline", "ratio (95 %)", "robust z", "trend/day", "MK p", "of 24 h"):
         t.add_column(c, no_wrap=True)
+    from degas.analysis.weekly import ROLE_OF_KIND as role
     from degas.analysis.weekly import ROLE_ORDER
 
-    role = {"gas_flux": "gas", "extrusion_rate": "magma", "amplitude": "amplitude", "gas_ratio": "ratio"}
     rows = sorted((r.to_row() for r in bundle.review),
                   key=lambda r: (ROLE_ORDER.index(role.get(r["kind"], "other")), r["series"]))
 

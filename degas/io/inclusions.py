@@ -176,7 +176,7 @@ def build_melt_inclusions(path: Path, raw, options: ReadOptions, reader: str) ->
         times, a = _times(raw, roles["time"], options, tmp, source)
         assumptions.extend(a)
         has_phase = phase.notna().to_numpy()
-        for row in tmp.rows:
+        for row in tmp.rows[len(raw.rejects):]:  # the loader's malformed lines are reported already
             i = int(np.flatnonzero(raw.lines == row[1])[0])
             if row[3] == "missing time" and has_phase[i]:
                 continue

@@ -264,12 +264,20 @@ def render_report(bundle) -> tuple[str, dict]:
     tabs = tables(bundle)
     if "regimes" in tabs:
         r = tabs["regimes"]
-        munit = "m³/s DRE" if bundle.regimes.magma_measure == "extrusion_rate" else "eruptive fraction"
-        shown = pd.DataFrame({"first day": r["start"], "last day": (r["end"] - NS).dt.floor("D"),
-                              "days": r["duration_days"],
-                              "label": r["label"], "SO2 (t/d)": r["gas_t_d"],
-                              "× passive level": r["gas_to_baseline"], f"magma output ({munit})": r["magma_level"],
-                              "gas per magma vs coupled": r["ratio_vs_expected"], "evidence": r["evidence"]})
+        from degas.analysis.relation import MAGMA_UNITS
+
+        rel = getattr(bundle.regimes, "relation", None)
+        measure = rel.magma_measure if rel is not None else bundle.regimes.magma_measure
+        munit = MAGMA_UNITS.get(measure, "eruptive fraction")
+        cols = {"first day": r["start"], "last day": (r["end"] - NS).dt.floor("D"), "days": r["duration_days"],
+                "label": r["label"], "SO2 (t/d)": r["gas_t_d"]}
+        if "predicted_t_d" in r.columns:  # judged against the gas–magma relation (its prediction and band)
+            cols["predicted SO2 (t/d)"] = r["predicted_t_d"]
+            cols["band (t/d)"] = [f"{lo:.0f}–{hi:.0f}" for lo, hi in zip(r["band_low_t_d"], r["band_high_t_d"],
+                                                                       strict=True)]
+        cols.update({"× background g0": r["gas_to_baseline"], f"magma output ({munit})": r["magma_level"],
+                     "excess gas per output ÷ k": r["ratio_vs_expected"], "evidence": r["evidence"]})
+        shown = pd.DataFrame(cols)
         sections.setdefault("series", ("Monitoring series", []))[1].append(
             "<h3>Regime intervals</h3>" + table_html(shown)
             + '<p class="caption">Every column, with the thresholds used, is in the appendix file regimes.csv.</p>')
@@ -352,7 +360,7 @@ def render_report(bundle) -> tuple[str, dict]:
             "robust z": wr["robust_z"], "trend per day (95%)": [
                 "" if pd.isna(t) else f"{t:+.3g} ({lo:+.3g} to {hi:+.3g})" for t, lo, hi in
                 zip(wr["trend_per_day"], wr["trend_low"], wr["trend_high"], strict=True)],
-            "coverage": [f"{c:.0%}" for c in wr["coverage_window"]], "per": wr["reviewed_per"]}))
+            "of 24 h": [f"{c:.0%}" for c in wr["coverage_window"]], "per": wr["reviewed_per"]}))
             + f'<p class="caption">Window {per.window_start:%Y-%m-%d} to {(per.window_end - DAY):%Y-%m-%d} (last day '
             "included). All columns in the appendix file weekly_review.csv.</p>")
     if "weekly_event_rates" in tabs:

@@ -15,13 +15,12 @@ import numpy as np
 import pandas as pd
 
 from degas.analysis.review import display_factor
-from degas.analysis.weekly import ROLE_ORDER, coverage_vs_capability, week_over_week
+from degas.analysis.weekly import ROLE_OF_KIND, ROLE_ORDER, coverage_vs_capability, week_over_week
 from degas.report.html import REGIME_LABELS, esc
 
 DAY = pd.Timedelta("1D")
 THRESHOLD_NOTE = ("Thresholds are this observatory's own working values from the project file, not official alert "
                   "levels; alert levels come only from the responsible observatory and civil-protection authorities.")
-_ROLE_OF_KIND = {"gas_flux": "gas", "extrusion_rate": "magma", "amplitude": "amplitude", "gas_ratio": "ratio"}
 _NAMES = {"so2_flux": "SO2 flux", "co2_flux": "CO2 flux", "h2s_flux": "H2S flux", "extrusion_rate": "extrusion rate",
           "co2_so2_ratio": "CO2/SO2", "rsam": "seismic amplitude", "ssam": "seismic spectral amplitude"}
 
@@ -88,7 +87,7 @@ def _series_rows(bundle) -> list[BriefRow]:
             name = "seismic amplitude"
         if r.station:
             name += f" {r.station}"
-        rows.append(BriefRow(r.series_id, _ROLE_OF_KIND.get(r.kind, "other"), name, unit, weeks,
+        rows.append(BriefRow(r.series_id, ROLE_OF_KIND.get(r.kind, "other"), name, unit, weeks,
                              r.level_window, weeks["value"].iloc[-2] if len(weeks) > 1 else np.nan, r.level_baseline,
                              r.ratio, r.ratio_low, r.ratio_high, cov, note))
     return rows

@@ -136,3 +136,15 @@ def test_analysis_type_column_found_by_its_cells(tmp_path):
     res = read(f, ReadOptions(kind="melt_inclusions"))
     assert res.records[0].data["analysis_type"].tolist() == ["inclusion", "matrix_glass", "inclusion"]
     assert any("'Analysis' read as the analysis type" in n for n in res.notes)
+
+
+def test_a_malformed_line_in_a_dated_table_is_one_reject_not_a_crash(tmp_path):
+    # review: the loader's "wrong number of fields" rows were looked up again among the parsed lines (IndexError)
+    f = tmp_path / "mi_dated.csv"
+    f.write_text("Sample,Spot,Phase,Eruption date,Type,H2O (wt%),CO2 (ppm),S (ppm)\n"
+                 "VM-01,1,phase 1,2024-03-10,MI,4.8,620,310\n"
+                 "VM-01,2,phase 1,2024-03-10,MI,5.1,700,290,EXTRA\n"
+                 "VM-02,1,phase 1,2024-03-11,matrix glass,0.2,15,60\n", encoding="utf-8")
+    res = read(f, ReadOptions(kind="melt_inclusions"))
+    assert len(res.records[0].data) == 2
+    assert res.n_rejected == 1 and (res.rejects["line"] == 3).sum() == 1
