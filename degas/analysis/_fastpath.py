@@ -377,6 +377,8 @@ def _geom_core(X, beta, m, seg_coef, K, every, seed):
     lo = np.empty((cap, d))
     hi = np.empty((cap, d))
     vals = np.empty(cap)
+    cF = np.empty(cap)  # F[tau] - Q[tau] and S[tau] of each candidate, kept beside it (contiguous reads)
+    cS = np.empty((cap, d))
     c = np.empty(d)
     nlo = np.empty(d)
     nhi = np.empty(d)
@@ -416,8 +418,11 @@ def _geom_core(X, beta, m, seg_coef, K, every, seed):
                             continue
                     cand[w] = cand[p]
                     kill[w] = kill[p]
-                    lo[w] = lo[p]
-                    hi[w] = hi[p]
+                    cF[w] = cF[p]
+                    for j in range(d):
+                        lo[w, j] = lo[p, j]
+                        hi[w, j] = hi[p, j]
+                        cS[w, j] = cS[p, j]
                     w += 1
             nc = w
             if nalive:
@@ -427,25 +432,32 @@ def _geom_core(X, beta, m, seg_coef, K, every, seed):
                     kill2 = np.empty(cap, dtype=np.int64)
                     lo2 = np.empty((cap, d))
                     hi2 = np.empty((cap, d))
+                    cF2 = np.empty(cap)
+                    cS2 = np.empty((cap, d))
                     cand2[:nc] = cand[:nc]
                     kill2[:nc] = kill[:nc]
                     lo2[:nc] = lo[:nc]
                     hi2[:nc] = hi[:nc]
-                    cand, kill, lo, hi = cand2, kill2, lo2, hi2
+                    cF2[:nc] = cF[:nc]
+                    cS2[:nc] = cS[:nc]
+                    cand, kill, lo, hi, cF, cS = cand2, kill2, lo2, hi2, cF2, cS2
                     vals = np.empty(cap)
                 cand[nc] = tn
                 kill[nc] = big
-                lo[nc] = nlo
-                hi[nc] = nhi
+                cF[nc] = F[tn] - Q[tn]
+                for j in range(d):
+                    lo[nc, j] = nlo[j]
+                    hi[nc, j] = nhi[j]
+                    cS[nc, j] = S[tn, j]
                 nc += 1
         best = np.inf
         arg = -1
         for p in range(nc):
             tau = cand[p]
             ln = t - tau
-            v = F[tau] + Q[t] - Q[tau]
+            v = cF[p] + Q[t]
             for j in range(d):
-                s = S[t, j] - S[tau, j]
+                s = S[t, j] - cS[p, j]
                 v -= s * s / ln
             if seg_coef != 0.0:
                 v += seg_coef * math.log(ln)
@@ -465,8 +477,11 @@ def _geom_core(X, beta, m, seg_coef, K, every, seed):
                 if w != p:
                     cand[w] = cand[p]
                     kill[w] = kill[p]
-                    lo[w] = lo[p]
-                    hi[w] = hi[p]
+                    cF[w] = cF[p]
+                    for j in range(d):
+                        lo[w, j] = lo[p, j]
+                        hi[w, j] = hi[p, j]
+                        cS[w, j] = cS[p, j]
                 w += 1
         nc = w
     return F, last, max_cand
