@@ -750,7 +750,9 @@ def read_table(path: Path, options: ReadOptions, fmt: str) -> ReadResult:
 
     kind = options.kind or raw.meta.get("kind")
     if kind == "melt_inclusions" or (kind is None and looks_like_inclusions(raw.frame.columns)):
-        return build_melt_inclusions(path, raw, options, reader)
+        result = build_melt_inclusions(path, raw, options, reader)
+        result.notes[:0] = raw.notes
+        return result
     plan = plan_columns(raw, options, source)
     if plan.kind == "chronology":
         result = _build_chronology(path, raw, plan, options, reader)

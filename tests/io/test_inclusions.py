@@ -148,3 +148,20 @@ def test_a_malformed_line_in_a_dated_table_is_one_reject_not_a_crash(tmp_path):
     res = read(f, ReadOptions(kind="melt_inclusions"))
     assert len(res.records[0].data) == 2
     assert res.n_rejected == 1 and (res.rejects["line"] == 3).sum() == 1
+
+
+def test_workbook_notes_reach_an_inclusion_table(tmp_path):
+    """The loader's notes (sheet read, values under an empty header) were lost on the inclusion path."""
+    from openpyxl import Workbook
+
+    wb = Workbook()
+    wb.active.title = "glass"
+    for row in (["sample", "phase", "H2O (wt%)", "CO2 (ppm)", None], ["A1", "p1", 4.1, 600, "x"],
+                ["A2", "p1", 3.9, 580, None]):
+        wb.active.append(row)
+    wb.create_sheet("notes").append(["text", "more"])
+    wb.save(tmp_path / "mi.xlsx")
+    res = read(tmp_path / "mi.xlsx")
+    assert len(res.records[0].data) == 2
+    assert any("read sheet 'glass'" in n for n in res.notes)
+    assert any("sheet 'glass' column E has 1 value(s) under an empty header" in n for n in res.notes)
