@@ -776,6 +776,8 @@ def _meta_float(raw: RawTable, *keys: str) -> float | None:
 
 
 def _build_series(path: Path, raw: RawTable, plan: Plan, options: ReadOptions, reader: str) -> ReadResult:
+    from degas.io.counts import counts_quantity
+
     source = path.name
     kind = plan.kind
     rej = _Rejects(source, raw)
@@ -906,7 +908,7 @@ def _build_series(path: Path, raw: RawTable, plan: Plan, options: ReadOptions, r
             meta = SeriesMeta(
                 kind=kind,
                 quantity=_quantity(kind, species, header) if kind != "event_counts" else
-                f"{plan.classes[col].lower()}_events",
+                counts_quantity(plan.classes[col]),
                 station=station_s,
                 species=species if kind in ("gas_flux", "gas_ratio") else None,
                 unit=canonical if canonical else unit,
