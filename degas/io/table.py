@@ -676,6 +676,24 @@ def _dedupe_and_sort(df: pd.DataFrame, lines: np.ndarray, key: list[str], compar
     """Reject later duplicates of a key (same or conflicting values), then sort by time."""
     if len(df) == 0:
         return df, lines
+    df, lines = reject_duplicates(df, lines, key, compare, source, rejects, what, label)
+    t = _sortable(df[sort_by or key[0]])
+    if len(t) > 1 and (t[1:] < t[:-1]).any():
+        order = np.argsort(t, kind="stable")
+        n_out = int((t[1:] < t[:-1]).sum())
+        notes.append(f"{source}: {n_out} row(s) out of time order; sorted")
+        df = df.iloc[order]
+        lines = lines[order]
+    return df.reset_index(drop=True), lines
+
+
+def reject_duplicates(df: pd.DataFrame, lines: np.ndarray, key: list[str], compare: list[str], source: str,
+                      rejects: list, what: str, label: str | None = None) -> tuple[pd.DataFrame, np.ndarray]:
+    """Keep the first row of each ``key``; every later one becomes a reject (file, line, column ``label``)
+    saying whether it repeats that row ("duplicate of line N") or differs from it in a ``compare`` column
+    ("duplicate <what> with a different value than line N")."""
+    if len(df) == 0:
+        return df, lines
     k0 = df[key[0]]
     if len(key) == 1 and isinstance(k0.dtype, pd.DatetimeTZDtype) and k0.notna().all():
         t = k0.to_numpy(dtype="datetime64[ns]").astype("int64")
@@ -703,14 +721,7 @@ def _dedupe_and_sort(df: pd.DataFrame, lines: np.ndarray, key: list[str], compar
             for i, j, s_, k in zip(di, dj, same, raw_key, strict=True))
         df = df.loc[~dup]
         lines = lines[~dup]
-    t = _sortable(df[sort_by or key[0]])
-    if len(t) > 1 and (t[1:] < t[:-1]).any():
-        order = np.argsort(t, kind="stable")
-        n_out = int((t[1:] < t[:-1]).sum())
-        notes.append(f"{source}: {n_out} row(s) out of time order; sorted")
-        df = df.iloc[order]
-        lines = lines[order]
-    return df.reset_index(drop=True), lines
+    return df, lines
 
 
 def _sortable(col: pd.Series) -> np.ndarray:
