@@ -304,19 +304,6 @@ def _valid_utf8_bytes(data: bytes) -> bool:
     return True
 
 
-def _valid_utf8(path: Path) -> bool:
-    """True when the whole file decodes as UTF-8 (read in 1 MiB blocks)."""
-    dec = codecs.getincrementaldecoder("utf-8")()
-    try:
-        with open(path, "rb") as fh:
-            for block in iter(lambda: fh.read(1 << 20), b""):
-                dec.decode(block)
-            dec.decode(b"", final=True)
-    except UnicodeDecodeError:
-        return False
-    return True
-
-
 def load_excel(path: Path, sheet: str | int | None = None) -> RawTable:
     """Read the first sheet (or ``sheet``: name, 1-based number or "all") of an .xlsx or .xls workbook."""
     from degas.io.workbook import load_workbook

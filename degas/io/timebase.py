@@ -52,12 +52,6 @@ def origin_time(origin: str) -> pd.Timestamp | None:
     return t0.tz_localize("UTC") if t0.tzinfo is None else t0.tz_convert("UTC")
 
 
-def from_datenum(values: pd.Series) -> pd.Series:
-    """UTC times of MATLAB datenums (days since year 0; 719529 = 1970-01-01)."""
-    v = pd.to_numeric(values, errors="coerce").astype("float64").to_numpy()
-    return _ns_series((v - DATENUM_UNIX_EPOCH) * 86400e9, values.index)
-
-
 def _ns_series(ns: np.ndarray, index) -> pd.Series:
     ok = np.isfinite(ns) & (np.abs(ns) < 9.2e18)
     out = np.full(ns.shape, np.iinfo("int64").min, dtype="int64")
