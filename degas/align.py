@@ -23,6 +23,7 @@ from types import MappingProxyType
 import numpy as np
 import pandas as pd
 
+from degas.classcounts import ClassCounts
 from degas.errors import DegasError, NotEnoughDataError
 from degas.grid import Grid, bin_index, eruptive_fraction, event_counts, grid_for, resample
 from degas.model import Chronology, EventCatalog, TimeSeries
@@ -137,7 +138,7 @@ def align(
             cols[f"{name}_coverage"] = np.ones(grid.n)
             notes.append(f"{name}: a catalogue carries no coverage; a zero count means no event listed")
             continue
-        if type(rec).__name__ == "ClassCounts":  # counts by class: rates as published, no magnitudes
+        if isinstance(rec, ClassCounts):  # counts by class: rates as published, no magnitudes
             counts = event_counts(rec, grid=grid, classes=event_classes)
             cols[name] = counts["total"].to_numpy()
             for c in counts.columns:

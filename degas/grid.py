@@ -19,6 +19,7 @@ from dataclasses import dataclass
 import numpy as np
 import pandas as pd
 
+from degas.classcounts import ClassCounts
 from degas.errors import DegasError
 from degas.model import Chronology, EventCatalog, TimeSeries
 
@@ -232,7 +233,7 @@ def _frame(grid, val, unc, count, coverage) -> pd.DataFrame:
 
 
 def event_counts(
-    catalog: EventCatalog,
+    catalog: EventCatalog | ClassCounts,
     step: str | pd.Timedelta = "1D",
     *,
     grid: Grid | None = None,
@@ -245,7 +246,7 @@ def event_counts(
     """
     if grid is None:
         grid = grid_for([catalog], step)
-    if type(catalog).__name__ == "ClassCounts":  # counts by class: summed as given, NaN = not counted
+    if isinstance(catalog, ClassCounts):  # counts by class: summed as given, NaN = not counted
         return catalog.binned(grid, classes)
     df = catalog.data
     if classes is None:

@@ -485,13 +485,14 @@ def _budget_gas(b: RunBundle, g: pd.Series):
 
 def _seismicity(b: RunBundle) -> None:
     from degas.analysis import seismicity as s
+    from degas.classcounts import ClassCounts
 
     if "catalog" not in b.records:
         raise DegasError("no seismic catalogue in the archive")
     cat = b.records["catalog"]
     p = b.project
     b.seismic["rates"] = s.event_rates(cat, p.step)
-    if type(cat).__name__ == "ClassCounts":
+    if isinstance(cat, ClassCounts):
         from degas.analysis.count_rates import NO_MAGNITUDES
 
         b.skipped.append(f"seismic energy, b-value and depths: not run: {NO_MAGNITUDES}")
@@ -520,6 +521,7 @@ def _seismicity(b: RunBundle) -> None:
 def _review(b: RunBundle) -> None:
     from degas.analysis.review import review_events, review_series
     from degas.analysis.seismicity import estimate_b_value
+    from degas.classcounts import ClassCounts
 
     per = b.periods
     # every sampled series in the archive, not only those the coupling analysis uses
@@ -531,7 +533,7 @@ def _review(b: RunBundle) -> None:
         if rec is None or rec.meta.kind != e.meta.kind:
             rec = _clip(b.archive.load(e.series_id), per.baseline_start, per.window_end - pd.Timedelta(1, "ns"))
         b.review.append(review_series(rec, per, min_coverage=b.project.min_coverage, seed=b.project.seed))
-    if "catalog" in b.records and type(b.records["catalog"]).__name__ == "ClassCounts":
+    if "catalog" in b.records and isinstance(b.records["catalog"], ClassCounts):
         from degas.analysis.count_rates import review_counts
 
         b.review_events = review_counts(b.records["catalog"], per)

@@ -409,7 +409,6 @@ class Archive:
     def _stage(self, record: Record, gen: int, staged: dict, accept_conflicts: bool,
                lines: np.ndarray | None = None) -> AddOutcome:
         """Merge a record with the stored (or already staged) rows and write a new generation file."""
-        import pyarrow as pa
         import pyarrow.parquet as pq
 
         rtype = type(record).__name__
@@ -444,22 +443,7 @@ class Archive:
         if getattr(self, "_contrib", None) is not None:  # keys this source supplied/added, for 'degas forget'
             self._contrib.setdefault(sid, []).append(
                 _supplied_keys(new, old if prev_entry is not None else None, merged, rtype))
-        sort_col = "start" if rtype == "Chronology" else "time"
-        merged = merged.sort_values(sort_col, kind="stable").reset_index(drop=True)
-        rel = f"series/{_safe(sid)}.g{gen}.parquet"
-        table = pa.Table.from_pandas(merged, preserve_index=False)
-        tmp = self.root / (rel + ".tmp")
-        pq.write_table(table, tmp)
-        _fsync_file(tmp)
-        os.replace(tmp, self.root / rel)
-        t = merged[sort_col]
-        first = t.min().isoformat() if len(t) else None
-        last_t = t.max()
-        if "end" in merged and merged["end"].notna().any():
-            last_t = max(last_t, merged["end"].max())
-        staged[sid] = SeriesEntry(sid, meta, rtype, rel, len(merged), first,
-                                  last_t.isoformat() if len(t) else None, _largest_gap(t),
-                                  tuple(provenance)).to_dict()
+        staged[sid] = _write_generation(self.root, sid, gen, rtype, merged, meta, provenance)
         return outcome
 
     def _commit(self, gen: int, staged: dict, sources: dict) -> None:
@@ -633,6 +617,36 @@ def _atomic_write_text(path: Path, text: str) -> None:
 
 
 
+def _atomic_write_parquet(path: Path, table) -> None:
+    """Write a pyarrow table to ``path`` through a synced temporary file, so ``path`` is whole or absent."""
+    import pyarrow.parquet as pq
+
+    tmp = path.with_name(path.name + ".tmp")
+    pq.write_table(table, tmp)
+    _fsync_file(tmp)
+    os.replace(tmp, path)
+
+
+def _write_generation(root: Path, sid: str, gen: int, rtype: str, data: pd.DataFrame, meta: SeriesMeta,
+                      provenance) -> dict:
+    """Write the rows of series ``sid`` (sorted by time) as its generation-``gen`` file and return its manifest
+    entry. The one series writer of ingest and ``forget``: the file becomes current only when the caller
+    replaces the manifest, so an interrupted write leaves the archive as it was."""
+    import pyarrow as pa
+
+    sort_col = "start" if rtype == "Chronology" else "time"
+    data = data.sort_values(sort_col, kind="stable").reset_index(drop=True)
+    rel = f"series/{_safe(sid)}.g{gen}.parquet"
+    _atomic_write_parquet(root / rel, pa.Table.from_pandas(data, preserve_index=False))
+    t = data[sort_col]
+    first = t.min().isoformat() if len(t) else None
+    last_t = t.max()
+    if "end" in data and data["end"].notna().any():
+        last_t = max(last_t, data["end"].max())
+    return SeriesEntry(sid, meta, rtype, rel, len(data), first, last_t.isoformat() if len(t) else None,
+                       _largest_gap(t), tuple(provenance)).to_dict()
+
+
 def _read_manifest(root: Path) -> dict:
     """The manifest of the archive at ``root``, checked; ArchiveError when it is not one."""
     path = root / MANIFEST
@@ -664,9 +678,10 @@ def _refuse_foreign(root: Path) -> None:
 
 
 def _check_folders(root: Path) -> None:
-    """ArchiveError when ``series/`` or ``rejects/`` is a link (or anything) leading outside the archive."""
+    """ArchiveError when ``series/``, ``rejects/`` or ``contrib/`` is a link (or anything) leading outside the
+    archive."""
     base = root.resolve()
-    for sub in ("series", "rejects"):
+    for sub in ("series", "rejects", "contrib"):
         d = root / sub
         if d.is_symlink() or (d.exists() and not d.is_dir()):
             target = d.resolve()
@@ -790,7 +805,6 @@ def _write_contrib(root: Path, gen: int, sha: str, contrib: dict[str, list[pd.Da
     """Write the keys each series received from one source (``contrib/g<N>-<sha8>.parquet``): series_id, key,
     added (False: the row was already stored identically, or this source replaced its value)."""
     import pyarrow as pa
-    import pyarrow.parquet as pq
 
     schema = pa.schema([("series_id", pa.string()), ("key", pa.string()), ("added", pa.bool_())])
     tables = [pa.table({"series_id": pa.repeat(pa.scalar(sid, pa.string()), len(f)),
@@ -800,10 +814,7 @@ def _write_contrib(root: Path, gen: int, sha: str, contrib: dict[str, list[pd.Da
     table = pa.concat_tables(tables) if tables else schema.empty_table()
     rel = f"contrib/g{gen}-{sha[:8]}.parquet"
     (root / "contrib").mkdir(exist_ok=True)
-    tmp = root / (rel + ".tmp")
-    pq.write_table(table, tmp)
-    _fsync_file(tmp)
-    os.replace(tmp, root / rel)
+    _atomic_write_parquet(root / rel, table)
     return rel
 
 
@@ -866,7 +877,6 @@ def forget(archive: Archive, source: str | Path) -> ForgetReport:
     file replaced with ``--accept-conflicts`` cannot be restored (the note says so). A write that fails
     leaves the archive as it was (new generation files, then the manifest replaced last).
     """
-    import pyarrow as pa
     import pyarrow.parquet as pq
 
     with archive._writing():
@@ -905,19 +915,8 @@ def forget(archive: Archive, source: str | Path) -> ForgetReport:
                 del series[sid]
                 rep.dropped.append(sid)
                 continue
-            rel = f"series/{_safe(sid)}.g{gen}.parquet"
-            tmp = archive.root / (rel + ".tmp")
-            pq.write_table(pa.Table.from_pandas(merged, preserve_index=False), tmp)
-            _fsync_file(tmp)
-            os.replace(tmp, archive.root / rel)
-            sort_col = "start" if rtype == "Chronology" else "time"
-            tcol = merged[sort_col]
-            last_t = tcol.max()
-            if "end" in merged and merged["end"].notna().any():
-                last_t = max(last_t, merged["end"].max())
-            series[sid] = SeriesEntry(sid, SeriesMeta.from_dict(entry["meta"]), rtype, rel, len(merged),
-                                      tcol.min().isoformat(), last_t.isoformat(), _largest_gap(tcol),
-                                      tuple(others)).to_dict()
+            series[sid] = _write_generation(archive.root, sid, gen, rtype, merged,
+                                            SeriesMeta.from_dict(entry["meta"]), others)
         if src.get("replaced"):
             rep.notes.append(f"{src['replaced']} stored value(s) this file replaced (--accept-conflicts) keep the "
                              "file's values: the replaced ones were not kept")

@@ -102,3 +102,39 @@ def test_a_degas_error_quoting_multi_line_library_text_is_one_line():
 
     e = InputError("f.xlsx", "cannot read times: Invalid value '<DatetimeArray>\n['NaT']\nLength: 1'", column="end")
     assert str(e) == "f.xlsx [end]: cannot read times: Invalid value '<DatetimeArray> ['NaT'] Length: 1'"
+
+
+@pytest.mark.parametrize("opts,fragments", [
+    (["--time-origin", "", "--time-unit", "D"], ("--time-origin must be non-empty text", "''")),
+    (["--time-origin", "   ", "--time-unit", "D"], ("--time-origin must be non-empty text",)),
+    (["--time-origin", "last spring", "--time-unit", "D"], ("--time-origin must be a date", "'last spring'")),
+    (["--time-origin", "now", "--time-unit", "D"], ("--time-origin must be a date", "'now'")),
+    (["--time-origin", "2024-01-01", "--time-unit", ""], ("--time-unit must be non-empty text", "''")),
+    (["--time-origin", "2024-01-01", "--time-unit", "weeks"], ("--time-unit must be D (days)", "'weeks'")),
+    (["--time-origin", "2024-01-01"], ("--time-origin and --time-unit go together",)),
+    (["--time-unit", "h"], ("--time-origin and --time-unit go together",)),
+    (["--depth-positive", "sideways"], ("--depth-positive must be", "'sideways'")),
+])
+def test_time_base_option_errors_name_the_option(write, tmp_path, capsys, opts, fragments):
+    """Review: an empty --time-origin was reported as 'time_origin' (the Python argument name)."""
+    arc = tmp_path / "a"
+    rc = run(["ingest", str(write("f.csv", "day,SO2 flux (t/d)\n1,100\n2,110\n")), "--into", str(arc), *opts])
+    err = _one_line_error(capsys, rc, *fragments)
+    assert len(err.splitlines()) == 1
+    for python_name in ("time_origin", "time_unit", "depth_positive"):
+        assert python_name not in err
+    assert not arc.exists()  # refused before anything is read or written
+
+
+def test_good_time_base_options_still_ingest(write, tmp_path, capsys):
+    rc = run(["ingest", str(write("f.csv", "day,SO2 flux (t/d)\n1,100\n2,110\n")), "--into", str(tmp_path / "a"),
+              "--time-origin", "2024-01-01T00:00+02:00", "--time-unit", "D"])
+    out = capsys.readouterr()
+    assert rc == 0, out.err
+    assert "days counted from 2024-01-01T00:00+02:00" in out.out
+
+
+def test_a_mapping_file_with_a_bad_time_origin_names_the_key(write, tmp_path, capsys):
+    m = write("m.toml", 'time_origin = "sometime"\ntime_unit = "D"\n')
+    rc = run(["ingest", str(write("f.csv", FLUX)), "--into", str(tmp_path / "a"), "--map", str(m)])
+    _one_line_error(capsys, rc, "m.toml", "time_origin must be a date", "'sometime'")

@@ -6,6 +6,7 @@ import numpy as np
 import pandas as pd
 import pytest
 
+from degas.io.counts import counts_quantity
 from degas.model import SeriesMeta, make_series
 from degas.store import Archive
 
@@ -28,7 +29,7 @@ def archive(tmp_path_factory):
     for cls, scale in (("LP", 1.0), ("hybrid", 1.0), ("VT", 0.5)):
         v = rng.poisson(lam * scale).astype(float)
         v[[20, 21, 130]] = np.nan  # not counted those days
-        meta = SeriesMeta("event_counts", f"{cls.lower()}_events", "OBS-S", unit="count", display_unit="count")
+        meta = SeriesMeta("event_counts", counts_quantity(cls), "OBS-S", unit="count", display_unit="count")
         a.add(make_series(meta, DAYS, v, end=DAYS + pd.Timedelta("1D")))
     return a
 

@@ -116,7 +116,7 @@ def _outside_folder(tmp_path: Path) -> Path:
     return out
 
 
-@pytest.mark.parametrize("sub", ["series", "rejects"])
+@pytest.mark.parametrize("sub", ["series", "rejects", "contrib"])
 def test_a_linked_folder_outside_the_archive_is_refused_and_never_emptied(tmp_path, write, sub):
     root = tmp_path / "a"
     arc = Archive.create(root)
@@ -128,6 +128,26 @@ def test_a_linked_folder_outside_the_archive_is_refused_and_never_emptied(tmp_pa
     with pytest.raises(ArchiveError, match="outside the archive"):
         Archive.open(root).ingest_file(write("w2.csv", week("2024-01-08")))
     assert sorted(p.name for p in out.iterdir()) == ["keep.csv", "keep.parquet"]
+
+
+def test_forget_refuses_a_contrib_folder_linked_outside_the_archive(tmp_path, write):
+    """Review: contrib/ (which rows each file added) was not checked for links leading outside."""
+    from degas.store import forget
+
+    root = tmp_path / "a"
+    arc = Archive.create(root)
+    arc.ingest_file(write("w1.csv", week("2024-01-01")))
+    arc.ingest_file(write("w2.csv", week("2024-01-08")))
+    before = (root / "manifest.json").read_text()
+    out = _outside_folder(tmp_path)
+    for p in (root / "contrib").iterdir():
+        p.rename(out / p.name)  # the same contrib files, reached through a link
+    (root / "contrib").rmdir()
+    os.symlink(out, root / "contrib")
+    with pytest.raises(ArchiveError, match="contrib: is a link or file leading outside the archive"):
+        forget(Archive.open(root), "w2.csv")
+    assert (root / "manifest.json").read_text() == before
+    assert len(list(out.iterdir())) == 4  # the two kept files and both contrib files, untouched
 
 
 def test_a_stray_link_in_series_is_removed_without_touching_its_target(tmp_path, write):

@@ -34,6 +34,7 @@ from dataclasses import dataclass
 import numpy as np
 import pandas as pd
 
+from degas.classcounts import ClassCounts
 from degas.errors import DegasError, NotEnoughDataError
 from degas.grid import Grid, bin_index, event_counts, grid_for
 from degas.model import EVENT_CLASSES, EventCatalog, SeriesMeta, TimeSeries, make_series
@@ -391,7 +392,7 @@ def event_rates(
     -------
     RateResult
     """
-    if type(catalog).__name__ == "ClassCounts":  # published counts by class (kind event_counts)
+    if isinstance(catalog, ClassCounts):  # published counts by class (kind event_counts)
         from degas.analysis.count_rates import rates_from_counts
 
         return rates_from_counts(catalog, step, _class_tuple(classes), grid)
@@ -436,7 +437,7 @@ def event_rate_series(
     = count in bin / bin width in days); each row is the interval ``[time, end)`` of one bin.
     """
     classes = _class_tuple(classes)
-    if type(catalog).__name__ == "ClassCounts":  # published counts by class (kind event_counts)
+    if isinstance(catalog, ClassCounts):  # published counts by class (kind event_counts)
         from degas.analysis.count_rates import rate_series_from_counts
 
         return rate_series_from_counts(catalog, step, classes, grid)
@@ -1093,7 +1094,7 @@ def seismic_metrics(
     ``rate_per_day`` (all events, 1/d). ``attrs["notes"]`` carries the caveats.
     """
     classes = _class_tuple(classes)
-    if type(catalog).__name__ == "ClassCounts":  # published counts: the count columns only
+    if isinstance(catalog, ClassCounts):  # published counts: the count columns only
         from degas.analysis.count_rates import metrics_from_counts
 
         return metrics_from_counts(catalog, step, classes, grid)

@@ -162,22 +162,19 @@ def project_file_items(proj) -> list[tuple[Path, ReadOptions, str | None]]:
 
 
 def _extra_options(sheet, time_origin, time_unit, accept_approximate_dates, depth_positive) -> dict:
-    """Validated values of the workbook, time-base, date-precision and depth options (None = not given)."""
-    given = {k: v for k, v in (("sheet", sheet), ("time_origin", time_origin), ("time_unit", time_unit),
-                               ("depth_positive", depth_positive)) if v is not None}
-    if accept_approximate_dates:
-        given["accept_approximate_dates"] = True
-    if given:
-        from degas.io.mapping import options_from_dict
+    """Validated values of the workbook, time-base, date-precision and depth options (None = not given).
 
-        names = {"time_unit": "--time-unit", "depth_positive": "--depth-positive", "sheet": "--sheet"}
-        try:
-            options_from_dict(given, "option")
-        except DegasError as exc:
-            msg = str(exc)
-            for k, flag in names.items():
-                msg = msg.replace(k, flag)
-            raise typer.BadParameter(msg.removeprefix("option: ")) from None
+    Each error names the command-line option (``--time-origin``), never the Python argument.
+    """
+    checked = (("--time-origin", "time_origin", time_origin), ("--time-unit", "time_unit", time_unit),
+               ("--depth-positive", "depth_positive", depth_positive))
+    if any(v is not None for _, _, v in checked):
+        from degas.io.mapping import option_problem
+
+        for flag, key, value in checked:
+            problem = None if value is None else option_problem(key, value)
+            if problem:
+                raise typer.BadParameter(f"{flag} {problem}")
     if (time_origin is None) != (time_unit is None):
         raise typer.BadParameter("--time-origin and --time-unit go together")
     return {"sheet": sheet, "time_origin": time_origin, "time_unit": time_unit,

@@ -114,7 +114,9 @@ def quakes(
     allow_mixed_types = bool(allow_mixed_types)
     catalog, read_notes = _load_catalog(source, series)
     cls = _parse_classes(classes)
-    if type(catalog).__name__ == "ClassCounts":
+    from degas.classcounts import ClassCounts
+
+    if isinstance(catalog, ClassCounts):
         from degas.cli.counts_cmds import quakes_from_counts
 
         return quakes_from_counts(catalog, read_notes, step, cls, csv, json_out)

@@ -53,7 +53,7 @@ def looks_like_inclusions(columns) -> bool:
 
 def build_melt_inclusions(path: Path, raw, options: ReadOptions, reader: str) -> ReadResult:
     """Turn a loaded table (:class:`degas.io.table.RawTable`) into a MeltInclusions record."""
-    from degas.io.table import _blank, _numeric, _Rejects, _times
+    from degas.io.table import _blank, _numeric, _Rejects, _times, reject_duplicates
 
     source = path.name
     rej = _Rejects(source, raw)
@@ -218,14 +218,9 @@ def build_melt_inclusions(path: Path, raw, options: ReadOptions, reader: str) ->
     df = df.loc[alive].reset_index(drop=True)
     lines = raw.lines[alive]
     rows = rej.rows
-    dup = df["analysis_id"].duplicated(keep="first").to_numpy()
-    for i in np.flatnonzero(dup):
-        j = int(np.flatnonzero(df["analysis_id"].to_numpy() == df["analysis_id"].iloc[i])[0])
-        rows.append((source, int(lines[i]), roles.get("analysis_id"), f"duplicate analysis id of line {lines[j]}",
-                     str(df["analysis_id"].iloc[i])))
-    df = df.loc[~dup].reset_index(drop=True)
-    lines = lines[~dup]
-    df = df[list(MeltInclusions.COLUMNS)]
+    df, lines = reject_duplicates(df, lines, ["analysis_id"], [c for c in MeltInclusions.COLUMNS if c != "analysis_id"],
+                                  source, rows, "analysis id", roles.get("analysis_id"))
+    df = df[list(MeltInclusions.COLUMNS)].reset_index(drop=True)
     meta = SeriesMeta(kind="melt_inclusions", quantity="volatiles", station=options.station or raw.meta.get("station"),
                       unit="kg/kg", display_unit="ppm", description="melt inclusion and matrix glass analyses")
     prov = make_provenance(path, reader, len(df), len(rows), None, assumptions, options)

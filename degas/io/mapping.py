@@ -27,6 +27,7 @@ from pathlib import Path
 from degas.errors import ConfigError
 from degas.io.base import ReadOptions
 from degas.io.columns import ROLES
+from degas.io.timebase import TIME_UNITS, origin_time
 from degas.model import ERUPTIVE_STATES, EVENT_CLASSES, KINDS
 
 _FIELDS = {f.name for f in dataclasses.fields(ReadOptions)}
@@ -43,9 +44,10 @@ def options_from_dict(d: dict, where: str = "mapping") -> ReadOptions:
         valid = ", ".join(sorted(_FIELDS | {"path", "format"}))
         raise ConfigError(f"{where}: unknown option(s) {unknown}; valid: {valid}")
     clean = {k: v for k, v in d.items() if k in _FIELDS}
-    for k in _TEXT_FIELDS & set(clean):
-        if not isinstance(clean[k], str) or not clean[k].strip() or len(clean[k]) > 1000:
-            raise ConfigError(f"{where}: {k} must be non-empty text (at most 1000 characters), got {clean[k]!r:.60}")
+    for k in sorted(_TEXT_FIELDS & set(clean)):
+        problem = option_problem(k, clean[k])
+        if problem:
+            raise ConfigError(f"{where}: {k} {problem}")
     for k in _BOOL_FIELDS & set(clean):
         if not isinstance(clean[k], bool):
             raise ConfigError(f"{where}: {k} must be true or false, got {clean[k]!r:.60}")
@@ -63,10 +65,6 @@ def options_from_dict(d: dict, where: str = "mapping") -> ReadOptions:
         raise ConfigError(f"{where}: unknown event class(es) {bad_cls}; valid: {', '.join(EVENT_CLASSES)}")
     if "sheet" in clean:
         clean["sheet"] = str(clean["sheet"])
-    if clean.get("depth_positive") not in (None, "up", "down"):
-        raise ConfigError(f"{where}: depth_positive must be \"up\" or \"down\"")
-    if clean.get("time_unit") not in (None, "D", "d", "h", "s"):
-        raise ConfigError(f"{where}: time_unit must be D (days), h (hours) or s (seconds)")
     bad_states = sorted({v for v in clean.get("state_map", {}).values() if v not in ERUPTIVE_STATES})
     if bad_states:
         raise ConfigError(f"{where}: unknown state(s) {bad_states} in [state_map]; valid: {', '.join(ERUPTIVE_STATES)}")
@@ -82,6 +80,22 @@ def options_from_dict(d: dict, where: str = "mapping") -> ReadOptions:
         raise ConfigError(f"{where}: {exc}") from None
     except ConfigError as exc:  # a value out of its range (ReadOptions checks them)
         raise ConfigError(f"{where}: {exc}") from None
+
+
+def option_problem(key: str, value) -> str | None:
+    """What is wrong with the value of the text option ``key`` ("must be ...", without naming it), or None.
+
+    One rule set for mapping files (which name the key) and the command line (which names the option).
+    """
+    if not isinstance(value, str) or not value.strip() or len(value) > 1000:
+        return f"must be non-empty text (at most 1000 characters), got {value!r:.60}"
+    if key == "depth_positive" and value not in ("up", "down"):
+        return f'must be "up" or "down", got {value!r:.60}'
+    if key == "time_unit" and value not in TIME_UNITS:
+        return f"must be D (days), h (hours) or s (seconds), got {value!r:.60}"
+    if key == "time_origin" and origin_time(value) is None:
+        return f"must be a date such as 1995-01-01 (a time and UTC offset may follow), got {value!r:.60}"
+    return None
 
 
 def load_toml(path: str | Path) -> dict:

@@ -304,19 +304,6 @@ def _valid_utf8_bytes(data: bytes) -> bool:
     return True
 
 
-def _valid_utf8(path: Path) -> bool:
-    """True when the whole file decodes as UTF-8 (read in 1 MiB blocks)."""
-    dec = codecs.getincrementaldecoder("utf-8")()
-    try:
-        with open(path, "rb") as fh:
-            for block in iter(lambda: fh.read(1 << 20), b""):
-                dec.decode(block)
-            dec.decode(b"", final=True)
-    except UnicodeDecodeError:
-        return False
-    return True
-
-
 def load_excel(path: Path, sheet: str | int | None = None) -> RawTable:
     """Read the first sheet (or ``sheet``: name, 1-based number or "all") of an .xlsx or .xls workbook."""
     from degas.io.workbook import load_workbook
@@ -676,6 +663,24 @@ def _dedupe_and_sort(df: pd.DataFrame, lines: np.ndarray, key: list[str], compar
     """Reject later duplicates of a key (same or conflicting values), then sort by time."""
     if len(df) == 0:
         return df, lines
+    df, lines = reject_duplicates(df, lines, key, compare, source, rejects, what, label)
+    t = _sortable(df[sort_by or key[0]])
+    if len(t) > 1 and (t[1:] < t[:-1]).any():
+        order = np.argsort(t, kind="stable")
+        n_out = int((t[1:] < t[:-1]).sum())
+        notes.append(f"{source}: {n_out} row(s) out of time order; sorted")
+        df = df.iloc[order]
+        lines = lines[order]
+    return df.reset_index(drop=True), lines
+
+
+def reject_duplicates(df: pd.DataFrame, lines: np.ndarray, key: list[str], compare: list[str], source: str,
+                      rejects: list, what: str, label: str | None = None) -> tuple[pd.DataFrame, np.ndarray]:
+    """Keep the first row of each ``key``; every later one becomes a reject (file, line, column ``label``)
+    saying whether it repeats that row ("duplicate of line N") or differs from it in a ``compare`` column
+    ("duplicate <what> with a different value than line N")."""
+    if len(df) == 0:
+        return df, lines
     k0 = df[key[0]]
     if len(key) == 1 and isinstance(k0.dtype, pd.DatetimeTZDtype) and k0.notna().all():
         t = k0.to_numpy(dtype="datetime64[ns]").astype("int64")
@@ -703,14 +708,7 @@ def _dedupe_and_sort(df: pd.DataFrame, lines: np.ndarray, key: list[str], compar
             for i, j, s_, k in zip(di, dj, same, raw_key, strict=True))
         df = df.loc[~dup]
         lines = lines[~dup]
-    t = _sortable(df[sort_by or key[0]])
-    if len(t) > 1 and (t[1:] < t[:-1]).any():
-        order = np.argsort(t, kind="stable")
-        n_out = int((t[1:] < t[:-1]).sum())
-        notes.append(f"{source}: {n_out} row(s) out of time order; sorted")
-        df = df.iloc[order]
-        lines = lines[order]
-    return df.reset_index(drop=True), lines
+    return df, lines
 
 
 def _sortable(col: pd.Series) -> np.ndarray:
@@ -750,7 +748,9 @@ def read_table(path: Path, options: ReadOptions, fmt: str) -> ReadResult:
 
     kind = options.kind or raw.meta.get("kind")
     if kind == "melt_inclusions" or (kind is None and looks_like_inclusions(raw.frame.columns)):
-        return build_melt_inclusions(path, raw, options, reader)
+        result = build_melt_inclusions(path, raw, options, reader)
+        result.notes[:0] = raw.notes
+        return result
     plan = plan_columns(raw, options, source)
     if plan.kind == "chronology":
         result = _build_chronology(path, raw, plan, options, reader)
@@ -774,6 +774,8 @@ def _meta_float(raw: RawTable, *keys: str) -> float | None:
 
 
 def _build_series(path: Path, raw: RawTable, plan: Plan, options: ReadOptions, reader: str) -> ReadResult:
+    from degas.io.counts import counts_quantity
+
     source = path.name
     kind = plan.kind
     rej = _Rejects(source, raw)
@@ -904,7 +906,7 @@ def _build_series(path: Path, raw: RawTable, plan: Plan, options: ReadOptions, r
             meta = SeriesMeta(
                 kind=kind,
                 quantity=_quantity(kind, species, header) if kind != "event_counts" else
-                f"{plan.classes[col].lower()}_events",
+                counts_quantity(plan.classes[col]),
                 station=station_s,
                 species=species if kind in ("gas_flux", "gas_ratio") else None,
                 unit=canonical if canonical else unit,

@@ -31,20 +31,25 @@ def from_origin(values: pd.Series, origin: str, unit: str) -> pd.Series:
     offset); cells that are not numbers become NaT."""
     if unit not in TIME_UNITS:
         raise DegasError(f"unknown --time-unit {unit!r}; valid: D (days), h (hours), s (seconds)")
-    try:
-        t0 = pd.Timestamp(origin)
-    except (ValueError, TypeError):
-        raise DegasError(f"--time-origin {origin!r} is not a date (e.g. 1995-01-01)") from None
-    t0 = t0.tz_localize("UTC") if t0.tzinfo is None else t0.tz_convert("UTC")
+    t0 = origin_time(origin)
+    if t0 is None:
+        raise DegasError(f"--time-origin {origin!r} is not a date (e.g. 1995-01-01)")
     v = pd.to_numeric(values, errors="coerce").astype("float64").to_numpy()
     ns = t0.value + v * pd.Timedelta(TIME_UNITS[unit]).value
     return _ns_series(ns, values.index)
 
 
-def from_datenum(values: pd.Series) -> pd.Series:
-    """UTC times of MATLAB datenums (days since year 0; 719529 = 1970-01-01)."""
-    v = pd.to_numeric(values, errors="coerce").astype("float64").to_numpy()
-    return _ns_series((v - DATENUM_UNIX_EPOCH) * 86400e9, values.index)
+def origin_time(origin: str) -> pd.Timestamp | None:
+    """The UTC instant of a time origin (UTC unless it has an offset); None when it is not a date."""
+    if not isinstance(origin, str) or origin.strip().lower() in ("now", "today", "tomorrow", "yesterday"):
+        return None  # a moving origin would give other times on every read
+    try:
+        t0 = pd.Timestamp(origin)
+    except (ValueError, TypeError, OverflowError):
+        return None
+    if t0 is pd.NaT:
+        return None
+    return t0.tz_localize("UTC") if t0.tzinfo is None else t0.tz_convert("UTC")
 
 
 def _ns_series(ns: np.ndarray, index) -> pd.Series:

@@ -15,6 +15,7 @@ import numpy as np
 import pandas as pd
 
 from degas.errors import DegasError
+from degas.io.timebase import DATENUM_UNIX_EPOCH
 
 TIME_FORMATS = ("iso", "excel", "decimal_year", "unix", "dayfirst", "datenum")
 EXCEL_EPOCH = pd.Timestamp("1899-12-30", tz="UTC")  # serial day 0 of the 1900 system (with its leap-year bug)
@@ -225,7 +226,7 @@ def _from_numeric(x: pd.Series, fmt: str) -> pd.Series:
     elif fmt == "decimal_year":
         ns = _decimal_year_ns(v)
     elif fmt == "datenum":  # MATLAB datenum: days since year 0; 719529 is 1970-01-01
-        ns = (v - 719529.0) * 86400e9
+        ns = (v - DATENUM_UNIX_EPOCH) * 86400e9
     else:
         raise DegasError(f"unknown numeric time format {fmt!r}")
     ok = np.isfinite(ns) & (np.abs(ns) < 9.2e18)

@@ -94,7 +94,7 @@ def load_workbook(path: Path, sheet: str | None = None):
                 raise InputError(path.name, f"sheet {name!r} is empty")
             notes.append(f"{path.name}: sheet {name!r} is empty; skipped")
             continue
-        parts.append((name, _grid_to_frame(path, name, grid)))
+        parts.append((name, _grid_to_frame(path, name, grid, notes)))
     if not parts:
         raise InputError(path.name, "every sheet is empty")
     first_name, (frame, lines, meta) = parts[0]
@@ -147,8 +147,12 @@ def _xls_grid(path: Path, name: str) -> pd.DataFrame:
     return pd.DataFrame(rows, dtype=object)
 
 
-def _grid_to_frame(path: Path, sheet: str, grid: pd.DataFrame) -> tuple[pd.DataFrame, np.ndarray, dict]:
-    """Header row (the first with two or more text cells), data rows below it, metadata rows above it."""
+def _grid_to_frame(path: Path, sheet: str, grid: pd.DataFrame,
+                   notes: list[str]) -> tuple[pd.DataFrame, np.ndarray, dict]:
+    """Header row (the first with two or more text cells), data rows below it, metadata rows above it.
+
+    A column with values under an empty header cell is left out with a note in ``notes`` naming its letter.
+    """
     from degas.io.table import _META
 
     meta: dict[str, str] = {}
@@ -167,6 +171,7 @@ def _grid_to_frame(path: Path, sheet: str, grid: pd.DataFrame) -> tuple[pd.DataF
     header = [str(c).strip() if c is not None and not (isinstance(c, float) and np.isnan(c)) else ""
               for c in grid.iloc[header_row].tolist()]
     keep = [i for i, h in enumerate(header) if h]
+    notes.extend(_unnamed_column_notes(path, sheet, grid.iloc[header_row + 1:], header))
     names = [header[i] for i in keep]
     if len(set(names)) != len(names):
         dup = sorted({h for h in names if names.count(h) > 1})
@@ -176,3 +181,19 @@ def _grid_to_frame(path: Path, sheet: str, grid: pd.DataFrame) -> tuple[pd.DataF
     frame = frame.dropna(how="all")
     lines = (frame.index.to_numpy() + 1).astype("int64")  # spreadsheet row numbers
     return frame.reset_index(drop=True), lines, meta
+
+
+def _unnamed_column_notes(path: Path, sheet: str, body: pd.DataFrame, header: list[str]) -> list[str]:
+    """One note per column that holds values below an empty header cell (such a column is not read)."""
+    from openpyxl.utils import get_column_letter
+
+    notes = []
+    for i, h in enumerate(header):
+        if h:
+            continue
+        cells = body.iloc[:, i]
+        n = int((cells.notna() & ~cells.map(lambda v: isinstance(v, str) and not v.strip())).sum())
+        if n:
+            notes.append(f"{path.name}: sheet {sheet!r} column {get_column_letter(i + 1)} has {n} value(s) under an "
+                         "empty header; left out (give it a header in the workbook to read it)")
+    return notes

@@ -148,3 +148,37 @@ def test_a_malformed_line_in_a_dated_table_is_one_reject_not_a_crash(tmp_path):
     res = read(f, ReadOptions(kind="melt_inclusions"))
     assert len(res.records[0].data) == 2
     assert res.n_rejected == 1 and (res.rejects["line"] == 3).sum() == 1
+
+
+def test_workbook_notes_reach_an_inclusion_table(tmp_path):
+    """The loader's notes (sheet read, values under an empty header) were lost on the inclusion path."""
+    from openpyxl import Workbook
+
+    wb = Workbook()
+    wb.active.title = "glass"
+    for row in (["sample", "phase", "H2O (wt%)", "CO2 (ppm)", None], ["A1", "p1", 4.1, 600, "x"],
+                ["A2", "p1", 3.9, 580, None]):
+        wb.active.append(row)
+    wb.create_sheet("notes").append(["text", "more"])
+    wb.save(tmp_path / "mi.xlsx")
+    res = read(tmp_path / "mi.xlsx")
+    assert len(res.records[0].data) == 2
+    assert any("read sheet 'glass'" in n for n in res.notes)
+    assert any("sheet 'glass' column E has 1 value(s) under an empty header" in n for n in res.notes)
+
+
+def test_duplicate_analyses_are_rejected_with_file_line_and_whether_they_differ(write):
+    """Duplicates go through the tables' shared duplicate check: the first row of an id is kept, each later one
+    is a reject naming its line and the line it repeats."""
+    res = read(write("mi.csv", "sample,spot,phase,host,H2O (wt%),CO2 (ppm)\n"
+                               "A1,1,p1,,4.1,600\nA1,2,p1,,3.9,580\nA1,1,p1,,4.1,600\nA1,2,p1,,3.8,580\n"
+                               "A1,2,p1,ol,3.9,580\n"))
+    d = res.records[0].data
+    assert d["analysis_id"].tolist() == ["A1/1", "A1/2"] and d["h2o_frac"].tolist() == pytest.approx([0.041, 0.039])
+    rej = res.rejects
+    assert rej["file"].unique().tolist() == ["mi.csv"] and rej["column"].unique().tolist() == ["spot"]
+    assert dict(zip(rej["line"], rej["reason"], strict=True)) == {
+        4: "duplicate of line 2",
+        5: "duplicate analysis id with a different value than line 3",
+        6: "duplicate analysis id with a different value than line 3"}
+    assert rej["raw"].tolist() == ["A1/1", "A1/2", "A1/2"]

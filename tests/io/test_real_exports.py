@@ -56,6 +56,49 @@ def test_unknown_sheet_lists_the_sheets():
         read(DATA / "flux_per_year.xlsx", ReadOptions(sheet="x"))
 
 
+def _workbook(path: Path, rows: list[list], *, title: str = "flux") -> Path:
+    """A small .xlsx written with openpyxl, row by row (None = an empty cell)."""
+    from openpyxl import Workbook
+
+    wb = Workbook()
+    ws = wb.active
+    ws.title = title
+    for row in rows:
+        ws.append(row)
+    wb.save(path)
+    return path
+
+
+def test_values_under_an_empty_header_are_named_not_dropped_silently(tmp_path):
+    """Review: a column with data under an empty header cell was left out without a word."""
+    rows = [[None, "time", "SO2 flux (t/d)", None, "comment", None]]
+    rows += [[None, f"2024-01-0{d}", 100 + d, 5 * d, "ok", "  " if d == 1 else None] for d in range(1, 4)]
+    path = _workbook(tmp_path / "flux.xlsx", rows)
+    res = read(path)
+    (ts,) = res.records
+    assert len(ts) == 3
+    (note,) = [n for n in res.notes if "empty header" in n]
+    assert note.startswith("flux.xlsx: sheet 'flux' column D has 3 value(s) under an empty header; left out")
+    assert "column F" not in " ".join(res.notes) and "column A" not in " ".join(res.notes)  # blank cells only
+
+
+def test_an_empty_header_over_an_empty_column_gives_no_note(tmp_path):
+    path = _workbook(tmp_path / "flux.xlsx", [["time", None, "SO2 flux (t/d)"], ["2024-01-01", None, 100],
+                                              ["2024-01-02", None, 101]])
+    res = read(path)
+    assert len(res.records[0]) == 2 and not [n for n in res.notes if "empty header" in n]
+
+
+def test_the_empty_header_note_reaches_the_ingest_output(tmp_path, capsys):
+    from degas.cli import main  # noqa: F401  (registers every command)
+    from degas.cli._app import run
+
+    path = _workbook(tmp_path / "flux.xlsx", [["time", "SO2 flux (t/d)", None],
+                                              *[[f"2024-01-0{d}", 100 + d, 7] for d in range(1, 6)]])
+    assert run(["ingest", str(path), "--into", str(tmp_path / "arc")]) == 0
+    assert "note: flux.xlsx: sheet 'flux' column C has 5 value(s) under an empty header" in capsys.readouterr().out
+
+
 def test_sheet_from_a_mapping_file_number_or_name():
     assert options_from_dict({"sheet": 2}).sheet == "2"
     assert options_from_dict({"sheet": "all"}).sheet == "all"
