@@ -7,6 +7,7 @@ sea-level datum (converted once, here), compare per phase, and build the petrolo
 
 from __future__ import annotations
 
+import dataclasses
 from dataclasses import dataclass, field
 
 from degas.errors import DegasError, NotEnoughDataError
@@ -17,7 +18,7 @@ from degas.store import Archive
 @dataclass(frozen=True)
 class DepthContext:
     """Results of the depth step: storage (StorageResult), comparison (DepthComparisonResult),
-    sulfur (SulfurBudgetResult or None), settings used and notes."""
+    sulfur (budget.SampledPetrology from the inclusion S analyses, or None), settings used and notes."""
 
     series_id: str
     storage: object
@@ -86,11 +87,8 @@ def depth_context(archive: Archive, project: Project, catalog_id: str | None = N
 
 def inclusion_petrology(ctx: DepthContext | None):
     """The budget's petrological input from the inclusions (budget.SampledPetrology), or None."""
-    from degas.analysis.budget import SampledPetrology
-
     if ctx is None or ctx.sulfur is None or not ctx.settings.budget_from_inclusions:
         return None
     if ctx.sulfur.so2_per_m3 <= 0:
         return None
-    return SampledPetrology(ctx.sulfur.draws, f"bootstrap over {ctx.sulfur.n_mi} inclusion and {ctx.sulfur.n_mg} "
-                                              f"matrix-glass S analyses ({ctx.series_id})")
+    return dataclasses.replace(ctx.sulfur, source=f"{ctx.sulfur.source} ({ctx.series_id})")

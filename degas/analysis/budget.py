@@ -119,16 +119,33 @@ class PetrologyInputs:
 class SampledPetrology:
     """Petrological SO2 per m³ DRE given as draws rather than as three typed numbers.
 
-    Made from a bootstrap over inclusion and matrix-glass S analyses
-    (:func:`degas.analysis.petrology.sulfur_budget`); :func:`gas_budget` takes it wherever it takes
-    :class:`PetrologyInputs` and resamples the draws, so the excess-degassing ratio carries their spread.
+    Made by :func:`degas.analysis.petrology.sulfur_budget` from a bootstrap over inclusion and matrix-glass S
+    analyses (Devine et al. 1984), or directly from any draws; :func:`gas_budget` (and the relation's
+    petrological expectation) take it wherever they take :class:`PetrologyInputs` and resample the draws, so
+    the excess-degassing ratio carries their spread.
 
     draws_kg_m3 : SO2 per m³ DRE erupted, kg/m³, one value per draw.
-    source : one line saying where the draws come from (shown in the notes).
+    source : one line saying where the draws come from (shown in the notes and the report).
+    s_mi_ppm, s_mg_ppm : mean S of the inclusion and matrix-glass analyses, ppm by mass (NaN if not from analyses);
+        s_mi_se_ppm, s_mg_se_ppm : their standard errors (sample 1σ / √n), ppm.
+    n_mi, n_mg : analyses used. density_kg_m3, density_sd, crystal_fraction, crystal_fraction_sd : the DRE density
+        (kg/m³) and crystal volume fraction (0-1) drawn, with their 1σ. seed : the bootstrap's seed.
     """
 
     draws_kg_m3: np.ndarray
     source: str = ""
+    s_mi_ppm: float = np.nan
+    s_mg_ppm: float = np.nan
+    s_mi_se_ppm: float = np.nan
+    s_mg_se_ppm: float = np.nan
+    n_mi: int = 0
+    n_mg: int = 0
+    density_kg_m3: float = np.nan
+    density_sd: float = np.nan
+    crystal_fraction: float = np.nan
+    crystal_fraction_sd: float = np.nan
+    seed: int | None = None
+    notes: tuple[str, ...] = field(default=())
 
     def __post_init__(self) -> None:
         d = np.asarray(self.draws_kg_m3, dtype="float64")
@@ -144,6 +161,16 @@ class SampledPetrology:
         """``n`` draws resampled with replacement (kg/m³)."""
         rng = seed if isinstance(seed, np.random.Generator) else np.random.default_rng(seed)
         return rng.choice(np.asarray(self.draws_kg_m3, dtype="float64"), n, replace=True)
+
+    def interval(self, level: float = 0.95) -> tuple[float, float]:
+        """Central ``level`` interval of the draws, kg SO2 per m³ DRE."""
+        a = (1 - level) / 2 * 100
+        return float(np.percentile(self.draws_kg_m3, a)), float(np.percentile(self.draws_kg_m3, 100 - a))
+
+    def to_frame(self) -> pd.DataFrame:
+        lo, hi = self.interval()
+        return pd.DataFrame([{"s_mi_ppm": self.s_mi_ppm, "s_mg_ppm": self.s_mg_ppm, "n_mi": self.n_mi,
+                              "n_mg": self.n_mg, "so2_kg_per_m3": self.so2_per_m3, "so2_p2_5": lo, "so2_p97_5": hi}])
 
 
 def petrological_so2_mass(volume_dre_m3: float, inputs: PetrologyInputs) -> float:
