@@ -414,8 +414,11 @@ def budget(
                          magma=extrusion, step=step, min_coverage=min_coverage, petrology=petro)
         if b.budget is None:
             raise DegasError("; ".join(b.skipped) or "the budget could not be computed")
-        res, tab, petro = b.budget, b.aligned, b.project.petrology
+        res, tab, petro = b.budget, b.aligned, b.budget.petrology  # the verdict's petrology too (one per run)
         title = f"Gas budget: {', '.join(b.roles['gas'])} vs {b.roles['magma']} (segments: the regimes)"
+        if petro is not None:
+            console.print(f"petrological SO2 (Devine et al. 1984): {petro.so2_per_m3:.4g} kg per m³ DRE, "
+                          f"{b.petrology.label}", markup=False)
         g = tab.series("gas")
     else:
         picks = {"gas": (gas, ("gas_flux",), "gas flux"),

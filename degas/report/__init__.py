@@ -192,16 +192,7 @@ def _project_tables(bundle) -> str:
     """Petrological inputs, working thresholds, instrument capability and systematic errors as labelled tables."""
     pr = bundle.project
     out = []
-    pet = pr.petrology
-    if pet is not None:
-        rows = [("S in melt inclusions", f"{pet.s_melt_inclusion * 1e6:g}", f"{pet.s_melt_inclusion_sd * 1e6:g}",
-                 "ppm"),
-                ("S in matrix glass", f"{pet.s_matrix_glass * 1e6:g}", f"{pet.s_matrix_glass_sd * 1e6:g}", "ppm"),
-                ("DRE density", f"{pet.density_kg_m3:g}", f"{pet.density_sd:g}", "kg/m³"),
-                ("crystal volume fraction", f"{pet.crystal_fraction:g}", f"{pet.crystal_fraction_sd:g}", "0-1"),
-                ("expected SO2 per m³ DRE (Devine et al. 1984)", f"{pet.so2_per_m3:.4g}", "", "kg/m³")]
-        out.append("<h3>Petrological inputs</h3>" + table_html(pd.DataFrame(rows, columns=["input", "value",
-                                                                                         "1σ", "unit"])))
+    out.append(_petrology_table(bundle))
     if pr.thresholds:
         out.append("<h3>Working thresholds (the observatory's own, not official alert levels)</h3>" + table_html(
             pd.DataFrame([{"series or role": t.series, "label": t.label, "crossed when": t.describe()}
@@ -219,6 +210,46 @@ def _project_tables(bundle) -> str:
             pd.DataFrame([{"series": k, "share of 24 h the instrument can cover": f"{v:.0%}"}
                           for k, v in pr.capability])))
     return "".join(out)
+
+
+def _petrology_table(bundle) -> str:
+    """The run's one petrological input (the verdict's and the budget's) with where each value comes from."""
+    pr = bundle.project
+    run_petro = getattr(bundle, "petrology", None)
+    if run_petro is not None and run_petro.origin == "inclusions":
+        sp = run_petro.inputs
+        analyses = f"{sp.n_mi} inclusion and {sp.n_mg} matrix-glass analyses ({run_petro.series_id})"
+        rows = [("S in melt inclusions", f"{sp.s_mi_ppm:.4g}", f"{sp.s_mi_se_ppm:.2g}", "ppm",
+                 f"mean of {sp.n_mi} inclusion analyses ({run_petro.series_id}); 1σ: standard error"),
+                ("S in matrix glass", f"{sp.s_mg_ppm:.4g}", f"{sp.s_mg_se_ppm:.2g}", "ppm",
+                 f"mean of {sp.n_mg} matrix-glass analyses ({run_petro.series_id}); 1σ: standard error"),
+                ("DRE density", f"{sp.density_kg_m3:g}", f"{sp.density_sd:g}", "kg/m³", "project [inclusions]"),
+                ("crystal volume fraction", f"{sp.crystal_fraction:g}", f"{sp.crystal_fraction_sd:g}", "0-1",
+                 "project [inclusions]"),
+                ("expected SO2 per m³ DRE (Devine et al. 1984)", f"{sp.so2_per_m3:.4g}",
+                 f"{pd.Series(sp.draws_kg_m3).std(ddof=0):.2g}", "kg/m³",
+                 f"median of {len(sp.draws_kg_m3)} bootstrap draws over the {analyses}")]
+        caption = (f"Source: the S populations of {analyses}, used by the record-level verdict and the gas budget"
+                   + ("; the project's typed [petrology] values are not used in this run" if pr.petrology is not None
+                      else "") + ".")
+    elif pr.petrology is not None:
+        pet = pr.petrology
+        rows = [("S in melt inclusions", f"{pet.s_melt_inclusion * 1e6:g}", f"{pet.s_melt_inclusion_sd * 1e6:g}",
+                 "ppm", "typed [petrology]"),
+                ("S in matrix glass", f"{pet.s_matrix_glass * 1e6:g}", f"{pet.s_matrix_glass_sd * 1e6:g}", "ppm",
+                 "typed [petrology]"),
+                ("DRE density", f"{pet.density_kg_m3:g}", f"{pet.density_sd:g}", "kg/m³", "typed [petrology]"),
+                ("crystal volume fraction", f"{pet.crystal_fraction:g}", f"{pet.crystal_fraction_sd:g}", "0-1",
+                 "typed [petrology]"),
+                ("expected SO2 per m³ DRE (Devine et al. 1984)", f"{pet.so2_per_m3:.4g}", "", "kg/m³",
+                 "typed [petrology]")]
+        caption = ("Source: the project's typed [petrology] values, used by the record-level verdict and the gas "
+                   "budget.")
+    else:
+        return ""
+    return ("<h3>Petrological inputs</h3>" + table_html(pd.DataFrame(rows, columns=["input", "value", "1σ", "unit",
+                                                                                    "source"]))
+            + f'<p class="caption">{esc(caption)}</p>')
 
 
 def _notes_html(bundle) -> list[str]:

@@ -149,7 +149,9 @@ def verdict_sentence(bundle) -> Sentence | None:
     fit = f"SO2 = g0 + k·output(t {rel.lag_days:+.0f} d): {g0}, {k}, R² = {rel.r_squared:.2f} on {rel.n_fit_days} days"
     petro = ""
     if np.isfinite(rel.petrological_k):
-        petro = (f"; petrological expectation (Devine et al. 1984) {_num(rel.petrological_k)} kg SO2 per m³ DRE "
+        run_petro = getattr(bundle, "petrology", None)  # the budget's input too (one source per run)
+        src = f", {run_petro.label}" if run_petro is not None and run_petro.inputs is not None else ""
+        petro = (f"; petrological expectation (Devine et al. 1984{src}) {_num(rel.petrological_k)} kg SO2 per m³ DRE "
                  f"(95% {_num(rel.petrological_k_ci[0])} to {_num(rel.petrological_k_ci[1])})")
     if rel.independent:
         text = (f"Record-level verdict: gas independent of magma output ({fit}{petro}); no stretch is labelled "
