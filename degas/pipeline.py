@@ -455,7 +455,8 @@ def _volumes(b: RunBundle) -> None:
     rec = b.archive.load(surveys[0].series_id)
     d = rec.data
     b.volumes = compare_volumes(d["time"], d["value"].to_numpy(), b.aligned.series("magma"),
-                                d["uncertainty"].to_numpy() if "uncertainty" in d else None)
+                                d["uncertainty"].to_numpy() if "uncertainty" in d else None,
+                                rate_sd_m3_s=b.aligned.frame.get("magma_uncertainty"))
 
 
 def _budget_gas(b: RunBundle, g: pd.Series):

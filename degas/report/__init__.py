@@ -331,7 +331,8 @@ def render_report(bundle) -> tuple[str, dict]:
                               "SO2 (kt, lower bound)": [f"{m / 1e6:.3g} ± {t / 1e6:.2g} ({c:.0%} of days)" for m, t, c
                                                         in zip(bt["so2_mass_kg"], bt["so2_mass_sd_total_kg"],
                                                                bt["gas_coverage"], strict=True)],
-                              "DRE (Mm³)": bt["dre_volume_m3"] / 1e6,
+                              "DRE (Mm³)": [f"{v / 1e6:.3g} ± {sd / 1e6:.2g}" for v, sd in
+                                            zip(bt["dre_volume_m3"], bt["dre_volume_sd_m3"], strict=True)],
                               "on days with both: SO2 (kt) / DRE (Mm³)": [
                                   f"{a / 1e6:.3g} / {b / 1e6:.3g}" for a, b in
                                   zip(bt["so2_mass_both_kg"], bt["dre_volume_both_m3"], strict=True)],
@@ -350,7 +351,8 @@ def render_report(bundle) -> tuple[str, dict]:
         sections.setdefault("budget", ("Gas budget", []))[1].append(
             table_html(shown) + '<p class="caption">Last row: the whole span. SO2 totals count missing days as '
             "zero (lower bounds, with the share of days covered); ± is 1σ: the scans' random error and the "
-            "systematic plume-speed/geometry term per station (project [budget]), fully correlated within a station. "
+            "systematic plume-speed/geometry term per station (project [budget]), fully correlated within a station; "
+            "for DRE, the extrusion rate's daily 1σ added in quadrature (independent between days). "
             "Scans flagged by the instrument (e.g. cloud, low wind) are excluded. The ratio divides the SO2 and DRE "
             "of the days with both, as printed; its interval is on the log scale. SI values in the appendix file "
             "budget.csv.</p>")
@@ -358,13 +360,18 @@ def render_report(bundle) -> tuple[str, dict]:
         v = bundle.volumes
         vt = pd.DataFrame([{"first survey": v.start, "last survey": v.end,
                             "surveys (Mm³ DRE)": f"{v.survey_m3 / 1e6:.3g} ± {v.survey_sd_m3 / 1e6:.2g}",
-                            "rate series (Mm³ DRE)": f"{v.rate_m3 / 1e6:.3g}" + (" (lower bound)" if
-                                                                                 v.rate_is_lower_bound else ""),
+                            "rate series (Mm³ DRE)": f"{v.rate_m3 / 1e6:.3g} ± {v.rate_sd_m3 / 1e6:.2g}" + (
+                                " (lower bound)" if v.rate_is_lower_bound else ""),
                             "rate coverage": f"{v.rate_coverage:.0%}",
-                            "difference rate − surveys (Mm³)": v.difference_m3 / 1e6, "rate / surveys": v.ratio}])
+                            "difference rate − surveys (Mm³)": f"{v.difference_m3 / 1e6:.3g} ± "
+                                                               f"{v.difference_sd_m3 / 1e6:.2g}",
+                            "rate / surveys": v.ratio}])
         sections.setdefault("budget", ("Gas budget", []))[1].append(
             "<h3>Erupted volume two ways</h3>" + table_html(vt) + '<p class="caption">Survey difference and the '
-            "summed rate series over the same days; a rate series with missing days gives a lower bound.</p>")
+            "summed rate series over the same days; a rate series with missing days gives a lower bound. ± is 1σ: "
+            "the two surveys' in quadrature; the rate series' daily 1σ in quadrature (independent between days); "
+            "the difference's σ = √(σ_surveys² + σ_rate²), assuming the surveys' and the rate series' errors "
+            "independent (different instruments).</p>")
     b_rows = [(f"{'+'.join(bundle.seismic.get('b_classes', ('VT',)))}", bundle.seismic.get("b_value")),
               ("+".join(bundle.project.lp_classes), bundle.seismic.get("b_value_lp"))]
     b_rows = [{"events": k, "b ± σ (Shi & Bolt 1982)": f"{v.b:.2f} ± {v.sigma:.2f}", "Mc": v.mc, "events ≥ Mc": v.n}
