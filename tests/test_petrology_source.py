@@ -95,6 +95,7 @@ def test_typed_values_when_the_inclusions_are_not_used(archive):
     table = html[html.index("<h3>Petrological inputs</h3>"):]
     table = table[:table.index("</p>")]
     assert "typed [petrology]" in table and "inclusion analyses" not in table
+    assert "inclusion S analyses are not used" in table
 
 
 def test_budget_command_with_project_prints_the_verdicts_petrology(archive, tmp_path, capsys):

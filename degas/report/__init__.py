@@ -243,8 +243,11 @@ def _petrology_table(bundle) -> str:
                  "typed [petrology]"),
                 ("expected SO2 per m³ DRE (Devine et al. 1984)", f"{pet.so2_per_m3:.4g}", "", "kg/m³",
                  "typed [petrology]")]
+        unused = run_petro is not None and run_petro.sulfur is not None
         caption = ("Source: the project's typed [petrology] values, used by the record-level verdict and the gas "
-                   "budget.")
+                   "budget" + ("; the archive's inclusion S analyses are not used (budget_from_inclusions = false "
+                               "in [inclusions], or no S lost between inclusions and matrix glass)" if unused else "")
+                   + ".")
     else:
         return ""
     return ("<h3>Petrological inputs</h3>" + table_html(pd.DataFrame(rows, columns=["input", "value", "1σ", "unit",
