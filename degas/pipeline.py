@@ -59,6 +59,7 @@ class RunBundle:
     skipped: list[str] = field(default_factory=list)
     notes: list[str] = field(default_factory=list)
     depths: object | None = None  # degas.depths.DepthContext: inclusion storage depths beside VT depths
+    petrology: object | None = None  # degas.depths.RunPetrology: the one petrological input of the run
 
 
 def _pick(entries: list[SeriesEntry], kind: str, prefer_species: str | None = None) -> list[SeriesEntry]:
@@ -330,7 +331,8 @@ def _regimes(b: RunBundle) -> None:
     bg = None if p.gas_background is None else p.gas_background / KG_S_TO_T_D
     res = classify_from_relation(g, m, magma_measure=measure, gas_background=bg, magma_threshold=p.magma_threshold,
                                  band=p.relation_band, max_lag=p.rolling_max_lag, min_segment=p.min_segment,
-                                 max_gap=p.max_gap, penalty=p.penalty, n_boot=p.bootstrap, petrology=p.petrology,
+                                 max_gap=p.max_gap, penalty=p.penalty, n_boot=p.bootstrap,
+                                 petrology=_petrology(b).inputs,
                                  seed=p.seed)
     if b.mode == "retrospective":  # labelled on the whole history, shown for the episode only
         iv = res.intervals
@@ -405,12 +407,9 @@ def _budget(b: RunBundle) -> None:
         seg = b.regimes.intervals[["start", "end"]]
     elif "gas" in b.changepoints:
         seg = b.changepoints["gas"].segments[["start", "end"]]
-    petro = b.project.petrology
-    from degas.depths import inclusion_petrology
-
-    ip = inclusion_petrology(b.depths)
-    if ip is not None:  # S populations of the inclusions beat three typed numbers
-        petro = ip
+    run_petro = _petrology(b)  # the verdict's input too: S populations of the inclusions beat three typed numbers
+    petro = run_petro.inputs
+    if run_petro.origin == "inclusions":
         b.notes.append(f"petrological SO2 from the inclusions: {petro.source}")
     unc = b.aligned.frame.get("magma_uncertainty")
     g, gu, stations, systematic = _budget_gas(b, g)
@@ -424,7 +423,24 @@ def _budget(b: RunBundle) -> None:
 def _depths(archive: Archive, b: RunBundle) -> None:
     from degas.depths import depth_context
 
-    b.depths = depth_context(archive, b.project, b.roles["catalog"], b.roles["chronology"], b.regimes)
+    b.depths = depth_context(archive, b.project, b.roles["catalog"], b.roles["chronology"], b.regimes,
+                             petrology=_petrology(b))
+
+
+def _petrology(b: RunBundle):
+    """The run's one petrological input (degas.depths.run_petrology), chosen once, before the regimes step, so
+    that the verdict, the budget and the report's table use the same values."""
+    from degas.depths import RunPetrology, run_petrology
+
+    if b.petrology is None:
+        typed = b.project.petrology
+        b.petrology = RunPetrology(typed, "typed" if typed is not None else "none")
+        try:
+            if b.archive is not None:
+                b.petrology = run_petrology(b.archive, b.project)
+        except DegasError as exc:
+            b.notes.append(f"petrological SO2 from the inclusions not used: {exc}")
+    return b.petrology
 
 
 def _volumes(b: RunBundle) -> None:
@@ -439,7 +455,8 @@ def _volumes(b: RunBundle) -> None:
     rec = b.archive.load(surveys[0].series_id)
     d = rec.data
     b.volumes = compare_volumes(d["time"], d["value"].to_numpy(), b.aligned.series("magma"),
-                                d["uncertainty"].to_numpy() if "uncertainty" in d else None)
+                                d["uncertainty"].to_numpy() if "uncertainty" in d else None,
+                                rate_sd_m3_s=b.aligned.frame.get("magma_uncertainty"))
 
 
 def _budget_gas(b: RunBundle, g: pd.Series):

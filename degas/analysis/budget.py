@@ -119,16 +119,33 @@ class PetrologyInputs:
 class SampledPetrology:
     """Petrological SO2 per m³ DRE given as draws rather than as three typed numbers.
 
-    Made from a bootstrap over inclusion and matrix-glass S analyses
-    (:func:`degas.analysis.petrology.sulfur_budget`); :func:`gas_budget` takes it wherever it takes
-    :class:`PetrologyInputs` and resamples the draws, so the excess-degassing ratio carries their spread.
+    Made by :func:`degas.analysis.petrology.sulfur_budget` from a bootstrap over inclusion and matrix-glass S
+    analyses (Devine et al. 1984), or directly from any draws; :func:`gas_budget` (and the relation's
+    petrological expectation) take it wherever they take :class:`PetrologyInputs` and resample the draws, so
+    the excess-degassing ratio carries their spread.
 
     draws_kg_m3 : SO2 per m³ DRE erupted, kg/m³, one value per draw.
-    source : one line saying where the draws come from (shown in the notes).
+    source : one line saying where the draws come from (shown in the notes and the report).
+    s_mi_ppm, s_mg_ppm : mean S of the inclusion and matrix-glass analyses, ppm by mass (NaN if not from analyses);
+        s_mi_se_ppm, s_mg_se_ppm : their standard errors (sample 1σ / √n), ppm.
+    n_mi, n_mg : analyses used. density_kg_m3, density_sd, crystal_fraction, crystal_fraction_sd : the DRE density
+        (kg/m³) and crystal volume fraction (0-1) drawn, with their 1σ. seed : the bootstrap's seed.
     """
 
     draws_kg_m3: np.ndarray
     source: str = ""
+    s_mi_ppm: float = np.nan
+    s_mg_ppm: float = np.nan
+    s_mi_se_ppm: float = np.nan
+    s_mg_se_ppm: float = np.nan
+    n_mi: int = 0
+    n_mg: int = 0
+    density_kg_m3: float = np.nan
+    density_sd: float = np.nan
+    crystal_fraction: float = np.nan
+    crystal_fraction_sd: float = np.nan
+    seed: int | None = None
+    notes: tuple[str, ...] = field(default=())
 
     def __post_init__(self) -> None:
         d = np.asarray(self.draws_kg_m3, dtype="float64")
@@ -144,6 +161,16 @@ class SampledPetrology:
         """``n`` draws resampled with replacement (kg/m³)."""
         rng = seed if isinstance(seed, np.random.Generator) else np.random.default_rng(seed)
         return rng.choice(np.asarray(self.draws_kg_m3, dtype="float64"), n, replace=True)
+
+    def interval(self, level: float = 0.95) -> tuple[float, float]:
+        """Central ``level`` interval of the draws, kg SO2 per m³ DRE."""
+        a = (1 - level) / 2 * 100
+        return float(np.percentile(self.draws_kg_m3, a)), float(np.percentile(self.draws_kg_m3, 100 - a))
+
+    def to_frame(self) -> pd.DataFrame:
+        lo, hi = self.interval()
+        return pd.DataFrame([{"s_mi_ppm": self.s_mi_ppm, "s_mg_ppm": self.s_mg_ppm, "n_mi": self.n_mi,
+                              "n_mg": self.n_mg, "so2_kg_per_m3": self.so2_per_m3, "so2_p2_5": lo, "so2_p97_5": hi}])
 
 
 def petrological_so2_mass(volume_dre_m3: float, inputs: PetrologyInputs) -> float:
@@ -445,6 +472,10 @@ class VolumeComparison:
     the bins with a rate value in [first survey, last survey) (m³ DRE); ``rate_coverage`` is the share of those
     bins with a value; below 1 the rate total is a lower bound (missing days count as zero) and
     ``rate_is_lower_bound`` says so. ``difference_m3`` = rate − survey; ``ratio`` = rate / survey.
+    1σ values (m³): ``survey_sd_m3`` adds the two end surveys' 1σ in quadrature; ``rate_sd_m3`` adds the bins'
+    σ × bin length in quadrature (errors independent between bins, as the budget's ``dre_volume_sd_m3``; 0 when
+    the rate series gives none); ``difference_sd_m3`` = sqrt(survey_sd_m3² + rate_sd_m3²), which assumes the
+    surveys' and the rate series' errors independent (different instruments and methods; GUM, JCGM 100:2008).
     """
 
     start: pd.Timestamp
@@ -452,20 +483,23 @@ class VolumeComparison:
     survey_m3: float
     survey_sd_m3: float
     rate_m3: float
+    rate_sd_m3: float
     rate_coverage: float
     rate_is_lower_bound: bool
     difference_m3: float
+    difference_sd_m3: float
     ratio: float
     notes: tuple[str, ...] = field(default=())
 
     def to_frame(self) -> pd.DataFrame:
         return pd.DataFrame([{k: getattr(self, k) for k in (
-            "start", "end", "survey_m3", "survey_sd_m3", "rate_m3", "rate_coverage", "rate_is_lower_bound",
-            "difference_m3", "ratio")}])
+            "start", "end", "survey_m3", "survey_sd_m3", "rate_m3", "rate_sd_m3", "rate_coverage",
+            "rate_is_lower_bound", "difference_m3", "difference_sd_m3", "ratio")}])
 
 
 def compare_volumes(survey_times: pd.Series, survey_m3: np.ndarray, rate_m3_s: pd.Series,
-                    survey_sd_m3: np.ndarray | None = None) -> VolumeComparison:
+                    survey_sd_m3: np.ndarray | None = None,
+                    rate_sd_m3_s: pd.Series | None = None) -> VolumeComparison:
     """Survey volumes against the summed rate series over the span between the first and last survey.
 
     Parameters
@@ -474,6 +508,8 @@ def compare_volumes(survey_times: pd.Series, survey_m3: np.ndarray, rate_m3_s: p
     survey_m3 : cumulative DRE volume at each survey, m³.
     rate_m3_s : extrusion rate, m³/s DRE, on a regular UTC grid (NaN = missing).
     survey_sd_m3 : 1σ of each survey volume, m³ (the difference's σ adds the two ends in quadrature).
+    rate_sd_m3_s : 1σ of the rate per bin, m³/s, on the rate's grid (independent between bins); default: none
+        given, the rate total's σ is 0 and the difference's σ is the surveys' alone (a note says so).
     """
     t = pd.DatetimeIndex(pd.to_datetime(survey_times, utc=True))
     v = np.asarray(survey_m3, dtype=float)
@@ -497,10 +533,17 @@ def compare_volumes(survey_times: pd.Series, survey_m3: np.ndarray, rate_m3_s: p
     cov = float(have.mean()) if q.size else 0.0
     rate_total = float(q[have].sum() * dt)
     survey = float(v[-1] - v[0])
+    survey_sd = float(np.hypot(np.nan_to_num(sd[0]), np.nan_to_num(sd[-1])))
     notes = []
     if cov < 1:
         notes.append(f"the rate series covers {cov:.0%} of the days between the first and last survey: its "
                      "total is a lower bound")
-    return VolumeComparison(start, end, survey, float(np.hypot(np.nan_to_num(sd[0]), np.nan_to_num(sd[-1]))),
-                            rate_total, cov, cov < 1, rate_total - survey,
-                            rate_total / survey if survey > 0 else np.nan, tuple(notes))
+    if rate_sd_m3_s is None:
+        rate_sd = 0.0
+        notes.append("the rate series gives no uncertainties: the difference's 1σ is the surveys' alone")
+    else:
+        qs = rate_sd_m3_s.reindex(idx).to_numpy(dtype=float)[sel]
+        rate_sd = float(np.sqrt(np.nansum(np.where(have, qs * dt, np.nan) ** 2)))
+    return VolumeComparison(start, end, survey, survey_sd, rate_total, rate_sd, cov, cov < 1, rate_total - survey,
+                            float(np.hypot(survey_sd, rate_sd)), rate_total / survey if survey > 0 else np.nan,
+                            tuple(notes))

@@ -43,6 +43,7 @@ from dataclasses import dataclass, field
 import numpy as np
 import pandas as pd
 
+from degas.analysis.budget import SampledPetrology
 from degas.chem import SO2_PER_S
 from degas.errors import DegasError, NotEnoughDataError
 from degas.model import EventCatalog, MeltInclusions
@@ -609,44 +610,13 @@ def phase_windows(mi: MeltInclusions, chronology=None, pad: pd.Timedelta = pd.Ti
 # --------------------------------------------------------------------------- petrological SO2 (Devine et al.)
 
 
-@dataclass(frozen=True)
-class SulfurBudgetResult:
-    """Petrological SO2 per m³ DRE from inclusion and matrix-glass S populations (Devine et al. 1984).
-
-    ``draws`` : bootstrap/Monte Carlo draws of SO2 per m³ DRE (kg/m³). ``s_mi_ppm``, ``s_mg_ppm``: population
-    means; ``n_mi``, ``n_mg``: analyses used.
-    """
-
-    draws: np.ndarray
-    s_mi_ppm: float
-    s_mg_ppm: float
-    n_mi: int
-    n_mg: int
-    density_kg_m3: float
-    crystal_fraction: float
-    seed: int
-    notes: tuple[str, ...] = field(default=())
-
-    @property
-    def so2_per_m3(self) -> float:
-        """Median of the draws, kg SO2 per m³ DRE."""
-        return float(np.median(self.draws))
-
-    def interval(self, level: float = 0.95) -> tuple[float, float]:
-        a = (1 - level) / 2 * 100
-        return float(np.percentile(self.draws, a)), float(np.percentile(self.draws, 100 - a))
-
-    def to_frame(self) -> pd.DataFrame:
-        lo, hi = self.interval()
-        return pd.DataFrame([{"s_mi_ppm": self.s_mi_ppm, "s_mg_ppm": self.s_mg_ppm, "n_mi": self.n_mi,
-                              "n_mg": self.n_mg, "so2_kg_per_m3": self.so2_per_m3, "so2_p2_5": lo, "so2_p97_5": hi}])
-
-
 def sulfur_budget(mi: MeltInclusions, *, density_kg_m3: float = 2600.0, density_sd: float = 0.0,
                   crystal_fraction: float = 0.0, crystal_fraction_sd: float = 0.0, n_boot: int = 2000,
-                  seed: int = 0, min_analyses: int = 3) -> SulfurBudgetResult:
+                  seed: int = 0, min_analyses: int = 3) -> SampledPetrology:
     """Devine et al. (1984) SO2 per m³ DRE with S_MI and S_MG resampled by bootstrap over analyses.
 
+    Returns the draws (kg SO2 per m³ DRE) with the population means, counts and the inputs drawn, as the
+    :class:`~degas.analysis.budget.SampledPetrology` that the gas budget and the relation take.
     The crystal *volume* fraction is used as if crystals and melt had the same density (REFERENCES §1.1).
     """
     d = mi.data
@@ -665,5 +635,13 @@ def sulfur_budget(mi: MeltInclusions, *, density_kg_m3: float = 2600.0, density_
              f"analyses, bootstrap over analyses ({n_boot} resamples); a minimum estimate"]
     if s_mi.mean() <= s_mg.mean():
         notes.append("S in inclusions is not above S in matrix glass: the method sees no S lost on degassing")
-    return SulfurBudgetResult(draws, float(s_mi.mean() * 1e6), float(s_mg.mean() * 1e6), len(s_mi), len(s_mg),
-                              density_kg_m3, crystal_fraction, seed, tuple(notes))
+    return SampledPetrology(draws, f"bootstrap over {len(s_mi)} inclusion and {len(s_mg)} matrix-glass S analyses",
+                            s_mi_ppm=float(s_mi.mean() * 1e6), s_mg_ppm=float(s_mg.mean() * 1e6),
+                            s_mi_se_ppm=_se_ppm(s_mi), s_mg_se_ppm=_se_ppm(s_mg), n_mi=len(s_mi), n_mg=len(s_mg),
+                            density_kg_m3=density_kg_m3, density_sd=density_sd, crystal_fraction=crystal_fraction,
+                            crystal_fraction_sd=crystal_fraction_sd, seed=seed, notes=tuple(notes))
+
+
+def _se_ppm(s: np.ndarray) -> float:
+    """Standard error of the mean of S mass fractions (sample 1σ / √n), in ppm."""
+    return float(np.std(s, ddof=1) / np.sqrt(len(s)) * 1e6) if len(s) > 1 else np.nan

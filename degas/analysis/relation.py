@@ -200,7 +200,9 @@ def petrological_expectation(petrology, *, n_draws: int = 4000, seed: int | None
     """Devine, Sigurdsson & Davis (1984): expected kg SO2 per m³ DRE and a 95 % Monte Carlo interval.
 
     ``petrology`` is a :class:`degas.analysis.budget.PetrologyInputs` (its central value is
-    ``so2_per_m3``; the interval draws each input from a normal with its 1-sigma).
+    ``so2_per_m3``; the interval draws each input from a normal with its 1-sigma) or a
+    :class:`degas.analysis.budget.SampledPetrology` (inclusion S populations: the median of its draws, the
+    interval from resampling them), exactly as the gas budget reads it.
     """
     draws = petrology.sample_so2_per_m3(n_draws, seed)  # the budget's own sampler (same clipping)
     lo, hi = np.percentile(draws, [2.5, 97.5])
@@ -233,7 +235,8 @@ def fit_relation(
     gas_background : given background g0 (kg/s): only k is fitted (regression through g0).
     magma_measure : ``"extrusion_rate"``, ``"extrusion_rate_unknown_basis"`` or ``"eruptive_fraction"``.
     n_boot : block-bootstrap replicates (0: no intervals). min_r2 : R² below this → independent.
-    petrology : :class:`~degas.analysis.budget.PetrologyInputs` for the Devine et al. (1984) expectation.
+    petrology : :class:`~degas.analysis.budget.PetrologyInputs` or :class:`~degas.analysis.budget.SampledPetrology`
+        for the Devine et al. (1984) expectation.
     """
     if magma_measure not in MAGMA_UNITS:
         raise DegasError(f"unknown magma measure {magma_measure!r}; valid: {', '.join(MAGMA_UNITS)}")

@@ -414,8 +414,11 @@ def budget(
                          magma=extrusion, step=step, min_coverage=min_coverage, petrology=petro)
         if b.budget is None:
             raise DegasError("; ".join(b.skipped) or "the budget could not be computed")
-        res, tab, petro = b.budget, b.aligned, b.project.petrology
+        res, tab, petro = b.budget, b.aligned, b.budget.petrology  # the verdict's petrology too (one per run)
         title = f"Gas budget: {', '.join(b.roles['gas'])} vs {b.roles['magma']} (segments: the regimes)"
+        if petro is not None:
+            console.print(f"petrological SO2 (Devine et al. 1984): {petro.so2_per_m3:.4g} kg per m³ DRE, "
+                          f"{b.petrology.label}", markup=False)
         g = tab.series("gas")
     else:
         picks = {"gas": (gas, ("gas_flux",), "gas flux"),
@@ -426,12 +429,13 @@ def budget(
                                 tuple(f.strip().lower() for f in good_flags.split(",") if f.strip()), flag_notes)
         g, q = tab.pair("gas", "q")
         seg = _segments(g, "gas")[["start", "end"]] if segments == "changepoints" else None
-        res = gas_budget(g, q, so2_uncertainty=tab.frame["gas_uncertainty"], extrusion_uncertainty=None,
+        res = gas_budget(g, q, so2_uncertainty=tab.frame["gas_uncertainty"],
+                         extrusion_uncertainty=tab.frame.get("q_uncertainty"),
                          segments=seg, petrology=petro, error_correlation=error_correlation, n_monte_carlo=n_mc,
                          seed=seed, systematic=systematic)
         title = f"Gas budget: {entries['gas'].series_id} vs {entries['q'].series_id}"
     t = Table(title=title)
-    cols = ["start", "end", "SO2 kt", "± kt (indep.)", "± kt (total)", "DRE Mm³", "kg SO2 / m³"]
+    cols = ["start", "end", "SO2 kt", "± kt (indep.)", "± kt (total)", "DRE Mm³", "± Mm³", "kg SO2 / m³"]
     if petro is not None:
         cols += ["expected kt", "excess", "finding"]
     for c in cols:
@@ -440,7 +444,7 @@ def budget(
     for r in frame.to_dict("records"):
         row = [_fmt(r["start"]), _fmt(r["end"]), f"{r['so2_mass_kg'] / 1e6:.3g}",
                _fmt(r["so2_mass_sd_independent_kg"] / 1e6), _fmt(r["so2_mass_sd_total_kg"] / 1e6),
-               f"{r['dre_volume_m3'] / 1e6:.3g}",
+               f"{r['dre_volume_m3'] / 1e6:.3g}", _fmt(r["dre_volume_sd_m3"] / 1e6),
                _fmt(r["ratio_kg_per_m3"])]
         if petro is not None:
             row += [_fmt(r["expected_so2_kg"] / 1e6), _fmt(r["excess_factor"], ".2f"), r["finding"]]

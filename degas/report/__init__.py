@@ -192,16 +192,7 @@ def _project_tables(bundle) -> str:
     """Petrological inputs, working thresholds, instrument capability and systematic errors as labelled tables."""
     pr = bundle.project
     out = []
-    pet = pr.petrology
-    if pet is not None:
-        rows = [("S in melt inclusions", f"{pet.s_melt_inclusion * 1e6:g}", f"{pet.s_melt_inclusion_sd * 1e6:g}",
-                 "ppm"),
-                ("S in matrix glass", f"{pet.s_matrix_glass * 1e6:g}", f"{pet.s_matrix_glass_sd * 1e6:g}", "ppm"),
-                ("DRE density", f"{pet.density_kg_m3:g}", f"{pet.density_sd:g}", "kg/m³"),
-                ("crystal volume fraction", f"{pet.crystal_fraction:g}", f"{pet.crystal_fraction_sd:g}", "0-1"),
-                ("expected SO2 per m³ DRE (Devine et al. 1984)", f"{pet.so2_per_m3:.4g}", "", "kg/m³")]
-        out.append("<h3>Petrological inputs</h3>" + table_html(pd.DataFrame(rows, columns=["input", "value",
-                                                                                         "1σ", "unit"])))
+    out.append(_petrology_table(bundle))
     if pr.thresholds:
         out.append("<h3>Working thresholds (the observatory's own, not official alert levels)</h3>" + table_html(
             pd.DataFrame([{"series or role": t.series, "label": t.label, "crossed when": t.describe()}
@@ -219,6 +210,49 @@ def _project_tables(bundle) -> str:
             pd.DataFrame([{"series": k, "share of 24 h the instrument can cover": f"{v:.0%}"}
                           for k, v in pr.capability])))
     return "".join(out)
+
+
+def _petrology_table(bundle) -> str:
+    """The run's one petrological input (the verdict's and the budget's) with where each value comes from."""
+    pr = bundle.project
+    run_petro = getattr(bundle, "petrology", None)
+    if run_petro is not None and run_petro.origin == "inclusions":
+        sp = run_petro.inputs
+        analyses = f"{sp.n_mi} inclusion and {sp.n_mg} matrix-glass analyses ({run_petro.series_id})"
+        rows = [("S in melt inclusions", f"{sp.s_mi_ppm:.4g}", f"{sp.s_mi_se_ppm:.2g}", "ppm",
+                 f"mean of {sp.n_mi} inclusion analyses ({run_petro.series_id}); 1σ: standard error"),
+                ("S in matrix glass", f"{sp.s_mg_ppm:.4g}", f"{sp.s_mg_se_ppm:.2g}", "ppm",
+                 f"mean of {sp.n_mg} matrix-glass analyses ({run_petro.series_id}); 1σ: standard error"),
+                ("DRE density", f"{sp.density_kg_m3:g}", f"{sp.density_sd:g}", "kg/m³", "project [inclusions]"),
+                ("crystal volume fraction", f"{sp.crystal_fraction:g}", f"{sp.crystal_fraction_sd:g}", "0-1",
+                 "project [inclusions]"),
+                ("expected SO2 per m³ DRE (Devine et al. 1984)", f"{sp.so2_per_m3:.4g}",
+                 f"{pd.Series(sp.draws_kg_m3).std(ddof=0):.2g}", "kg/m³",
+                 f"median of {len(sp.draws_kg_m3)} bootstrap draws over the {analyses}")]
+        caption = (f"Source: the S populations of {analyses}, used by the record-level verdict and the gas budget"
+                   + ("; the project's typed [petrology] values are not used in this run" if pr.petrology is not None
+                      else "") + ".")
+    elif pr.petrology is not None:
+        pet = pr.petrology
+        rows = [("S in melt inclusions", f"{pet.s_melt_inclusion * 1e6:g}", f"{pet.s_melt_inclusion_sd * 1e6:g}",
+                 "ppm", "typed [petrology]"),
+                ("S in matrix glass", f"{pet.s_matrix_glass * 1e6:g}", f"{pet.s_matrix_glass_sd * 1e6:g}", "ppm",
+                 "typed [petrology]"),
+                ("DRE density", f"{pet.density_kg_m3:g}", f"{pet.density_sd:g}", "kg/m³", "typed [petrology]"),
+                ("crystal volume fraction", f"{pet.crystal_fraction:g}", f"{pet.crystal_fraction_sd:g}", "0-1",
+                 "typed [petrology]"),
+                ("expected SO2 per m³ DRE (Devine et al. 1984)", f"{pet.so2_per_m3:.4g}", "", "kg/m³",
+                 "typed [petrology]")]
+        unused = run_petro is not None and run_petro.sulfur is not None
+        caption = ("Source: the project's typed [petrology] values, used by the record-level verdict and the gas "
+                   "budget" + ("; the archive's inclusion S analyses are not used (budget_from_inclusions = false "
+                               "in [inclusions], or no S lost between inclusions and matrix glass)" if unused else "")
+                   + ".")
+    else:
+        return ""
+    return ("<h3>Petrological inputs</h3>" + table_html(pd.DataFrame(rows, columns=["input", "value", "1σ", "unit",
+                                                                                    "source"]))
+            + f'<p class="caption">{esc(caption)}</p>')
 
 
 def _notes_html(bundle) -> list[str]:
@@ -300,7 +334,8 @@ def render_report(bundle) -> tuple[str, dict]:
                               "SO2 (kt, lower bound)": [f"{m / 1e6:.3g} ± {t / 1e6:.2g} ({c:.0%} of days)" for m, t, c
                                                         in zip(bt["so2_mass_kg"], bt["so2_mass_sd_total_kg"],
                                                                bt["gas_coverage"], strict=True)],
-                              "DRE (Mm³)": bt["dre_volume_m3"] / 1e6,
+                              "DRE (Mm³)": [f"{v / 1e6:.3g} ± {sd / 1e6:.2g}" for v, sd in
+                                            zip(bt["dre_volume_m3"], bt["dre_volume_sd_m3"], strict=True)],
                               "on days with both: SO2 (kt) / DRE (Mm³)": [
                                   f"{a / 1e6:.3g} / {b / 1e6:.3g}" for a, b in
                                   zip(bt["so2_mass_both_kg"], bt["dre_volume_both_m3"], strict=True)],
@@ -319,7 +354,8 @@ def render_report(bundle) -> tuple[str, dict]:
         sections.setdefault("budget", ("Gas budget", []))[1].append(
             table_html(shown) + '<p class="caption">Last row: the whole span. SO2 totals count missing days as '
             "zero (lower bounds, with the share of days covered); ± is 1σ: the scans' random error and the "
-            "systematic plume-speed/geometry term per station (project [budget]), fully correlated within a station. "
+            "systematic plume-speed/geometry term per station (project [budget]), fully correlated within a station; "
+            "for DRE, the extrusion rate's daily 1σ added in quadrature (independent between days). "
             "Scans flagged by the instrument (e.g. cloud, low wind) are excluded. The ratio divides the SO2 and DRE "
             "of the days with both, as printed; its interval is on the log scale. SI values in the appendix file "
             "budget.csv.</p>")
@@ -327,13 +363,18 @@ def render_report(bundle) -> tuple[str, dict]:
         v = bundle.volumes
         vt = pd.DataFrame([{"first survey": v.start, "last survey": v.end,
                             "surveys (Mm³ DRE)": f"{v.survey_m3 / 1e6:.3g} ± {v.survey_sd_m3 / 1e6:.2g}",
-                            "rate series (Mm³ DRE)": f"{v.rate_m3 / 1e6:.3g}" + (" (lower bound)" if
-                                                                                 v.rate_is_lower_bound else ""),
+                            "rate series (Mm³ DRE)": f"{v.rate_m3 / 1e6:.3g} ± {v.rate_sd_m3 / 1e6:.2g}" + (
+                                " (lower bound)" if v.rate_is_lower_bound else ""),
                             "rate coverage": f"{v.rate_coverage:.0%}",
-                            "difference rate − surveys (Mm³)": v.difference_m3 / 1e6, "rate / surveys": v.ratio}])
+                            "difference rate − surveys (Mm³)": f"{v.difference_m3 / 1e6:.3g} ± "
+                                                               f"{v.difference_sd_m3 / 1e6:.2g}",
+                            "rate / surveys": v.ratio}])
         sections.setdefault("budget", ("Gas budget", []))[1].append(
             "<h3>Erupted volume two ways</h3>" + table_html(vt) + '<p class="caption">Survey difference and the '
-            "summed rate series over the same days; a rate series with missing days gives a lower bound.</p>")
+            "summed rate series over the same days; a rate series with missing days gives a lower bound. ± is 1σ: "
+            "the two surveys' in quadrature; the rate series' daily 1σ in quadrature (independent between days); "
+            "the difference's σ = √(σ_surveys² + σ_rate²), assuming the surveys' and the rate series' errors "
+            "independent (different instruments).</p>")
     b_rows = [(f"{'+'.join(bundle.seismic.get('b_classes', ('VT',)))}", bundle.seismic.get("b_value")),
               ("+".join(bundle.project.lp_classes), bundle.seismic.get("b_value_lp"))]
     b_rows = [{"events": k, "b ± σ (Shi & Bolt 1982)": f"{v.b:.2f} ± {v.sigma:.2f}", "Mc": v.mc, "events ≥ Mc": v.n}

@@ -65,7 +65,8 @@ def display_tables(bundle) -> dict[str, pd.DataFrame]:
             "SO2 kt": [_g(x / 1e6) for x in bt["so2_mass_kg"]],
             "± kt (1σ total)": [_g(x / 1e6, 2) for x in bt["so2_mass_sd_total_kg"]],
             "gas days %": [f"{x:.0%}" for x in bt["gas_coverage"]],
-            "DRE Mm³": [_g(x / 1e6) for x in bt["dre_volume_m3"]],
+            "DRE Mm³ (± 1σ)": [f"{_g(x / 1e6)} ± {_g(sd / 1e6, 2)}" for x, sd in
+                               zip(bt["dre_volume_m3"], bt["dre_volume_sd_m3"], strict=True)],
             "SO2 kt (both)": [_g(x / 1e6) for x in bt["so2_mass_both_kg"]],
             "DRE Mm³ (both)": [_g(x / 1e6) for x in bt["dre_volume_both_m3"]],
             "kg/m³ (95%)": [f"{_g(r)} ({_g(lo)}–{_g(hi)})" if pd.notna(r) else "" for r, lo, hi in
@@ -98,9 +99,11 @@ def display_tables(bundle) -> dict[str, pd.DataFrame]:
         v = bundle.volumes
         out["print_volumes"] = pd.DataFrame([{
             "first survey": _day(v.start), "last survey": _day(v.end), "surveys Mm³ DRE": _g(v.survey_m3 / 1e6),
-            "± Mm³": _g(v.survey_sd_m3 / 1e6, 2), "rate series Mm³ DRE": _g(v.rate_m3 / 1e6),
+            "± Mm³": _g(v.survey_sd_m3 / 1e6, 2),
+            "rate series Mm³ DRE": f"{_g(v.rate_m3 / 1e6)} ± {_g(v.rate_sd_m3 / 1e6, 2)}",
             "rate coverage": f"{v.rate_coverage:.0%}", "rate total": "lower bound" if v.rate_is_lower_bound else
-            "complete", "difference Mm³": _g(v.difference_m3 / 1e6), "rate / surveys": _g(v.ratio, 3)}])
+            "complete", "difference Mm³ (± 1σ)": f"{_g(v.difference_m3 / 1e6)} ± {_g(v.difference_sd_m3 / 1e6, 2)}",
+            "rate / surveys": _g(v.ratio, 3)}])
     st = stations_table(bundle)
     if not st.empty:
         st = st.copy()

@@ -149,7 +149,9 @@ def verdict_sentence(bundle) -> Sentence | None:
     fit = f"SO2 = g0 + k·output(t {rel.lag_days:+.0f} d): {g0}, {k}, R² = {rel.r_squared:.2f} on {rel.n_fit_days} days"
     petro = ""
     if np.isfinite(rel.petrological_k):
-        petro = (f"; petrological expectation (Devine et al. 1984) {_num(rel.petrological_k)} kg SO2 per m³ DRE "
+        run_petro = getattr(bundle, "petrology", None)  # the budget's input too (one source per run)
+        src = f", {run_petro.label}" if run_petro is not None and run_petro.inputs is not None else ""
+        petro = (f"; petrological expectation (Devine et al. 1984{src}) {_num(rel.petrological_k)} kg SO2 per m³ DRE "
                  f"(95% {_num(rel.petrological_k_ci[0])} to {_num(rel.petrological_k_ci[1])})")
     if rel.independent:
         text = (f"Record-level verdict: gas independent of magma output ({fit}{petro}); no stretch is labelled "
@@ -226,7 +228,8 @@ def summarise(bundle) -> list[Sentence]:
                 f"Gas budget {_d(o['start'])} to {_d(o['end'] - NS)}: {_num(o['so2_mass_kg'] / 1e6)} ± "
                 f"{_num(o['so2_mass_sd_total_kg'] / 1e6)} kt SO2 (1σ, scan errors and per-station systematic "
                 f"plume-speed/geometry terms; flagged scans excluded; lower bound, "
-                f"gas coverage {o['gas_coverage']:.0%}) and {o['dre_volume_m3'] / 1e6:.3g} Mm³ DRE erupted; on the "
+                f"gas coverage {o['gas_coverage']:.0%}) and {o['dre_volume_m3'] / 1e6:.3g} ± "
+                f"{o['dre_volume_sd_m3'] / 1e6:.2g} Mm³ DRE erupted (1σ); on the "
                 f"{both} days with both, {o['ratio_kg_per_m3']:.3g} kg SO2 per m³ DRE (95% "
                 f"{o['ratio_p2_5_kg_per_m3']:.3g} to {o['ratio_p97_5_kg_per_m3']:.3g}); "
                 f"observed/petrological SO2 = {o['excess_factor']:.2f} (95% {o['excess_p2_5']:.2f} to "

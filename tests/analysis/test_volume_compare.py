@@ -35,3 +35,24 @@ def test_full_coverage_is_not_a_lower_bound():
     res = compare_volumes(pd.Series(pd.to_datetime(["2031-01-02", "2031-01-08"], utc=True)),
                           np.array([0.0, 6 * DAY]), pd.Series(np.ones(10), idx))
     assert not res.rate_is_lower_bound and res.ratio == pytest.approx(1.0)
+
+
+def test_rate_total_and_difference_carry_a_1_sigma():
+    # GUM (JCGM 100:2008, eq. 10): uncorrelated terms add in quadrature. Daily rate errors are taken as
+    # independent between days, and the surveys' errors as independent of the rate series' (different
+    # instruments): σ_rate² = Σ (σ_q·Δt)² over the days with a rate, σ_diff² = σ_survey² + σ_rate².
+    idx = pd.date_range("2031-01-01", periods=30, freq="D", tz="UTC")
+    q = pd.Series(np.full(30, 2.0), idx)
+    q.iloc[10:15] = np.nan  # missing days carry no error either
+    q_sd = pd.Series(np.full(30, 0.2), idx)  # 0.2 m³/s per day
+    surveys = pd.Series(pd.to_datetime(["2031-01-01", "2031-01-21"], utc=True))
+    vol = np.array([1.0e6, 1.0e6 + 20 * DAY * 2.0])
+    res = compare_volumes(surveys, vol, q, survey_sd_m3=np.array([3e4, 4e4]), rate_sd_m3_s=q_sd)
+    rate_sd = np.sqrt(15) * 0.2 * DAY  # 15 days with a rate: 66 921 m³ by hand
+    assert res.rate_sd_m3 == pytest.approx(rate_sd)
+    assert res.difference_sd_m3 == pytest.approx(np.sqrt(5e4**2 + rate_sd**2))  # 83 557 m³
+    assert res.to_frame()["difference_sd_m3"].iloc[0] == pytest.approx(res.difference_sd_m3)
+    # without rate uncertainties the difference's σ is the surveys' alone, and a note says so
+    bare = compare_volumes(surveys, vol, q, survey_sd_m3=np.array([3e4, 4e4]))
+    assert bare.rate_sd_m3 == 0.0 and bare.difference_sd_m3 == pytest.approx(5e4)
+    assert any("no uncertainties" in n for n in bare.notes)

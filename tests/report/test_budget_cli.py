@@ -24,3 +24,23 @@ def test_budget_excludes_flagged_scans_and_carries_the_systematic_term(demo_arch
     assert seg["so2_mass_sd_total_kg"] ** 2 == pytest.approx(
         seg["so2_mass_sd_independent_kg"] ** 2 + seg["so2_mass_sd_systematic_kg"] ** 2, rel=1e-9)
     assert seg["ratio_p2_5_kg_per_m3"] > 0
+
+
+def test_budget_prints_the_dre_volume_with_its_1_sigma(demo_archive, tmp_path, capsys):
+    import numpy as np
+    import pandas as pd
+
+    out = tmp_path / "b.json"
+    rc = run(["budget", str(demo_archive.root), "--gas", "gas_flux.so2_flux.VLM-N", "--extrusion",
+              "extrusion_rate.extrusion_rate.VLM-CAM", "--segments", "none", "--json", str(out)])
+    text = capsys.readouterr().out
+    assert rc == 0, text
+    assert "± Mm³" in text
+    seg = json.loads(out.read_text())["segments"][-1]
+    # the camera's daily 1σ × 1 day, added in quadrature over the days with a rate (independent days; GUM)
+    rec = demo_archive.load("extrusion_rate.extrusion_rate.VLM-CAM").data
+    days = pd.DatetimeIndex(rec["time"])
+    sel = (days >= pd.Timestamp(seg["start"])) & (days < pd.Timestamp(seg["end"])) & rec["value"].notna().to_numpy()
+    by_hand = float(np.sqrt(np.nansum((rec["uncertainty"].to_numpy()[sel] * 86400.0) ** 2)))
+    assert seg["dre_volume_sd_m3"] == pytest.approx(by_hand, rel=1e-6)
+    assert f"{seg['dre_volume_sd_m3'] / 1e6:.3g}" in text  # shown in Mm³ beside the volume

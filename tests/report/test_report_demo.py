@@ -145,8 +145,10 @@ def test_every_number_in_the_other_sentences_comes_from_its_result(demo_bundle):
     # issue 13: the ± now carries the per-station systematic term (GUM: correlated within a station)
     assert sd == pytest.approx(o["so2_mass_sd_total_kg"] / 1e6, rel=0.01) and "1σ" in text
     assert o["so2_mass_sd_total_kg"] / o["so2_mass_kg"] > 0.1  # not the ±4 % of the scan errors alone
-    mm3 = float(re.search(r"and ([\d.]+) Mm³ DRE", text).group(1))
+    mm3, mm3_sd = (float(x) for x in re.search(r"and ([\d.]+) ± ([\d.]+) Mm³ DRE", text).groups())
     assert mm3 == pytest.approx(cum["dre_cum_m3"].iloc[-1] / 1e6, rel=1e-2)  # m³ -> Mm³: ÷ 1e6
+    # review: the DRE volume's computed 1σ is shown beside it (the camera's daily 1σ in quadrature)
+    assert o["dre_volume_sd_m3"] > 0 and mm3_sd == pytest.approx(o["dre_volume_sd_m3"] / 1e6, rel=0.05)
     assert "lower bound" in text and f"gas coverage {o['gas_coverage']:.0%}" in text
     assert f"= {o['excess_factor']:.2f} (95% {o['excess_p2_5']:.2f} to {o['excess_p97_5']:.2f})" in text
     rev = next(r for r in demo_bundle.review if r.series_id == "gas_flux.so2_flux.VLM-N")
@@ -205,3 +207,17 @@ def test_a_chronology_alone_is_enough_for_regimes(demo_archive, demo_truth):
     pause = iv[(iv["start"] <= mid_pause) & (iv["end"] > mid_pause)]
     assert pause["label"].iloc[0] == "gas_only"
     assert pause["start"].iloc[0] == pd.Timestamp("2023-12-01", tz="UTC")  # the chronology's own boundary
+
+
+def test_report_tables_show_dre_volumes_and_the_volume_difference_with_1_sigma(demo_report, demo_bundle):
+    html = demo_report[0].read_text(encoding="utf-8")
+    o = demo_bundle.budget.overall
+    # the budget table's last row is the whole span: DRE volume ± its 1σ, in Mm³
+    assert f"<td class=\"t\">{o['dre_volume_m3'] / 1e6:.3g} ± {o['dre_volume_sd_m3'] / 1e6:.2g}</td>" in html
+    v = demo_bundle.volumes
+    # GUM (JCGM 100:2008): independent surveys and rate series add in quadrature
+    assert v.difference_sd_m3 == pytest.approx((v.survey_sd_m3**2 + v.rate_sd_m3**2) ** 0.5)
+    assert v.rate_sd_m3 > 0
+    assert f"<td class=\"t\">{v.difference_m3 / 1e6:.3g} ± {v.difference_sd_m3 / 1e6:.2g}</td>" in html
+    assert f"{v.rate_m3 / 1e6:.3g} ± {v.rate_sd_m3 / 1e6:.2g}" in html
+    assert "assuming the surveys' and the rate series' errors independent" in html.replace("&#x27;", "'")
