@@ -18,6 +18,7 @@ from dataclasses import dataclass, field
 import numpy as np
 import pandas as pd
 
+from degas.analysis.robust import MAD_TO_SD
 from degas.errors import DegasError, NotEnoughDataError
 from degas.units import KG_S_TO_T_D
 
@@ -339,7 +340,7 @@ def classify_from_relation(
                 k = 0.0
         if not (fraction and (~act).any()):
             g0 = _wmedian(G[act] - k * Q[act], w[act]) if act.any() else _wmedian(G, w)
-    scale = float(np.nanmedian(np.abs(g - g0 - k * qs)) / 0.6745)
+    scale = float(MAD_TO_SD * np.nanmedian(np.abs(g - g0 - k * qs)))
     lab = _label_pieces(p, g0, k, 0.0, scale, 0.0, band, z, thr, False, given, fraction)
     inl = lab["consistent"].to_numpy()
     rel = None
