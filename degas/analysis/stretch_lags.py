@@ -32,7 +32,7 @@ import numpy as np
 import pandas as pd
 import scipy.fft as sfft
 
-from degas.analysis.relation import block_length
+from degas.analysis.relation import block_length, block_starts
 from degas.analysis.surrogates import gapped_amplitudes, iter_phase_spectra
 from degas.errors import NotEnoughDataError
 
@@ -206,8 +206,7 @@ def stretch_lags(
     if n_boot > 0:
         # moving blocks (Künsch 1989) summed through cumulative sums per group: ceil(m / block) whole blocks
         rng = np.random.default_rng(seed)
-        n_blocks = int(np.ceil(len(pos) / block))
-        starts = rng.integers(0, len(pos) - block + 1, size=(n_boot, n_blocks))
+        starts = block_starts(len(pos), block, n_boot, rng)
         cs = np.concatenate([np.zeros((n_grp, 1, len(lags), 6)),
                              np.cumsum(member[:, :, None, None] * parts[None], axis=1)], axis=1)
         # each replicate's sum = Σ over its chosen starts of one block's sums: a count per start and one product,
