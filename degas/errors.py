@@ -44,3 +44,7 @@ class ArchiveError(DegasError):
 
 class ConfigError(DegasError):
     """A mapping or configuration file that cannot be used."""
+
+
+class SettingNotUsedWarning(UserWarning):
+    """A setting in a project file that degas accepts but no longer reads; the CLI prints it as one note line."""

@@ -27,9 +27,6 @@ With it the weekly run is one command (``degas report ARCHIVE --project velmarra
 
     [regimes]                     # project defaults, not published values: tune per volcano
     magma_threshold = 0.1         # m³/s DRE: output counted as active
-    gas_factor = 2.0              # (segment-table labelling of classify_regimes only; the run uses the relation)
-    ratio_low = 0.3               # (idem)
-    ratio_high = 3.0              # (idem)
     # gas_background = 150        # t/d; default: the fitted relation's intercept at zero output
     relation_band = 0.25          # gas within ±25 % of the relation's prediction (at least) counts as coupled
 
@@ -64,13 +61,14 @@ With it the weekly run is one command (``degas report ARCHIVE --project velmarra
 from __future__ import annotations
 
 import dataclasses
+import warnings
 from dataclasses import dataclass, field
 from pathlib import Path
 
 import pandas as pd
 
 from degas.analysis.budget import PetrologyInputs
-from degas.errors import ConfigError
+from degas.errors import ConfigError, SettingNotUsedWarning
 from degas.io.mapping import load_toml
 
 #: [petrology] keys (ppm by mass, kg/m³, volume fraction, 1-sigma) -> PetrologyInputs.from_ppm arguments
@@ -200,10 +198,7 @@ class Project:
     min_segment: str = "14D"
     max_gap: str = "10D"
     penalty: str | float = "bic3"
-    gas_factor: float = 2.0
     magma_threshold: float | None = None
-    ratio_low: float = 0.3
-    ratio_high: float = 3.0
     gas_background: float | None = None  # t/d; None = the fitted relation's intercept g0
     relation_band: float = 0.25  # relative floor of the relation's prediction band (project default)
     petrology: PetrologyInputs | None = None
@@ -242,11 +237,16 @@ _SECTIONS = {
                  "rolling_max_lag": "rolling_max_lag", "rolling_surrogates": "rolling_surrogates",
                  "variant": "variant", "seed": "seed"},
     "changepoints": {"min_segment": "min_segment", "max_gap": "max_gap", "penalty": "penalty"},
-    "regimes": {"gas_factor": "gas_factor", "magma_threshold": "magma_threshold", "ratio_low": "ratio_low",
-                "ratio_high": "ratio_high", "gas_background": "gas_background", "relation_band": "relation_band"},
+    "regimes": {"magma_threshold": "magma_threshold", "gas_background": "gas_background",
+                "relation_band": "relation_band"},
     "review": {"window_days": "window_days", "baseline_days": "baseline_days", "brief_weeks": "brief_weeks"},
     "seismicity": {"lp_classes": "lp_classes", "b_window_events": "b_window_events"},
 }
+
+#: keys of older project files that are accepted but no longer read: section -> {key: why}; loading a file
+#: that has them warns once per section (SettingNotUsedWarning, one line) instead of accepting them silently
+_RETIRED = {"regimes": dict.fromkeys(("gas_factor", "ratio_low", "ratio_high"),
+                                     "regimes come from the fitted gas–output relation")}
 
 
 def load_project(path: str | Path) -> Project:
@@ -266,8 +266,7 @@ _TYPES: dict[str, tuple[type, ...]] = {
     "volcano": (str,), "observatory": (str,), "magma": (str,), "ratio": (str,), "catalog": (str,),
     "step": (str,), "max_lag": (str,), "rolling_window": (str,), "rolling_step": (str,), "rolling_max_lag": (str,),
     "variant": (str,), "min_segment": (str,), "max_gap": (str,), "penalty": (str, int, float),
-    "min_coverage": (int, float), "gas_factor": (int, float), "magma_threshold": (int, float),
-    "ratio_low": (int, float), "ratio_high": (int, float), "surrogates": (int,), "bootstrap": (int,),
+    "min_coverage": (int, float), "magma_threshold": (int, float), "surrogates": (int,), "bootstrap": (int,),
     "rolling_surrogates": (int,), "window_days": (int,), "baseline_days": (int,), "b_window_events": (int,),
     "seed": (int,), "gas_background": (int, float), "relation_band": (int, float),
     "vent_latitude": (int, float), "vent_longitude": (int, float), "brief_weeks": (int,),
@@ -282,8 +281,7 @@ _NUMBER_BOUNDS: dict[str, tuple[float, float]] = {
     "surrogates": (0, _COUNT_MAX), "bootstrap": (0, _COUNT_MAX), "rolling_surrogates": (0, _COUNT_MAX),
     "seed": (0, 2**32 - 1),
     "window_days": (1, 3660), "baseline_days": (1, 36_600), "b_window_events": (1, 1_000_000),
-    "gas_factor": (1e-6, 1e6), "magma_threshold": (0, 1e7),
-    "ratio_low": (1e-9, 1e9), "ratio_high": (1e-9, 1e9),
+    "magma_threshold": (0, 1e7),
 }
 _STEP_MIN = pd.Timedelta("1min")  # finest grid step: the finest sampling of the instruments degas reads
 _DURATION_MAX = pd.Timedelta(days=36_600)  # 100 years
@@ -329,6 +327,13 @@ def project_from_dict(raw: dict, where: str = "project") -> Project:
         table = raw.get(section, {})
         if not isinstance(table, dict):
             raise ConfigError(f"{where}: [{section}] must be a table")
+        retired = _RETIRED.get(section, {})
+        old = [k for k in table if k in retired]
+        if old:
+            why = "; ".join(dict.fromkeys(retired[k] for k in old))
+            warnings.warn(f"{where}: [{section}] {', '.join(old)} {'is' if len(old) == 1 else 'are'} no longer used "
+                          f"({why})", SettingNotUsedWarning, stacklevel=2)
+            table = {k: v for k, v in table.items() if k not in retired}
         bad = sorted(set(table) - set(keys))
         if bad:
             raise ConfigError(f"{where}: unknown key(s) {bad} in [{section}]; valid: {', '.join(sorted(keys))}")

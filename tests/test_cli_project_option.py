@@ -52,3 +52,12 @@ def test_inventory_names_the_project_roles(tmp_path, capsys):
     capsys.readouterr()
     assert run(["inventory", str(tmp_path / "d"), "--project", str(proj)]) == 0
     assert "project magma: extrusion_rate.extrusion_rate.TR-CAM" in capsys.readouterr().out
+
+
+def test_retired_project_key_is_one_note_line(tmp_path, capsys):
+    src, proj = _setup(tmp_path)
+    proj.write_text(proj.read_text(encoding="utf-8") + "[regimes]\ngas_factor = 2.0\n", encoding="utf-8")
+    assert run(["ingest", "--into", str(tmp_path / "e"), "--project", str(proj)]) == 0
+    err = capsys.readouterr().err.strip().splitlines()
+    assert err == [f"degas: note: {proj}: [regimes] gas_factor is no longer used (regimes come from the fitted "
+                   "gas–output relation)"]

@@ -20,8 +20,6 @@ from degas.project import project_from_dict
      ("analysis", "max_lag", "100000D", "max_lag = '100000D' is outside its valid range"),
      ("analysis", "rolling_window", "1min", "rolling_window = '1min' is outside its valid range"),
      ("analysis", "min_coverage", float("nan"), "min_coverage must be between 0 and 1"),
-     ("regimes", "gas_factor", float("inf"), "gas_factor = inf is outside its valid range"),
-     ("regimes", "ratio_low", -1.0, "ratio_low = -1.0 is outside"),
      ("regimes", "magma_threshold", float("nan"), "magma_threshold = nan is outside"),
      ("changepoints", "penalty", float("nan"), "penalty = nan is outside its valid range"),
      ("review", "window_days", 10**9, "window_days = 1000000000 is outside its valid range [1, 3660]")],

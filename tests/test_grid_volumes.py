@@ -77,11 +77,11 @@ def test_contiguous_runs_split_only_at_long_gaps():
 def test_robust_z_scale_matches_scipy():
     from scipy.stats import median_abs_deviation
 
-    from degas.analysis.review import MAD_TO_SIGMA
+    from degas.analysis.robust import MAD_TO_SD
 
     x = np.random.default_rng(0).normal(size=1001)
     # 1.4826 ≈ 1/Φ⁻¹(3/4), the normal-consistency constant that scipy applies with scale="normal"
-    assert MAD_TO_SIGMA * median_abs_deviation(x) == pytest.approx(median_abs_deviation(x, scale="normal"),
+    assert MAD_TO_SD * median_abs_deviation(x) == pytest.approx(median_abs_deviation(x, scale="normal"),
                                                                    rel=1e-4)
 
 

@@ -41,3 +41,24 @@ def test_regime_relation_settings_load_from_the_project_file():
 
     p = project_from_dict({"regimes": {"relation_band": 0.3, "gas_background": 150}})
     assert p.relation_band == 0.3 and p.gas_background == 150
+
+
+def test_retired_regime_keys_load_with_a_one_line_note():
+    """gas_factor, ratio_low and ratio_high labelled the segment-table regimes that issue 9's relation-based regimes
+    replaced; a project file that still has them loads, with one note instead of silent acceptance."""
+    import warnings
+
+    from degas.errors import SettingNotUsedWarning
+
+    raw = {"regimes": {"gas_factor": 2.0, "magma_threshold": 0.2, "ratio_low": 0.3, "ratio_high": 3.0}}
+    with pytest.warns(SettingNotUsedWarning) as rec:
+        p = project_from_dict(raw, "p.toml")
+    assert [str(w.message) for w in rec] == [
+        "p.toml: [regimes] gas_factor, ratio_low, ratio_high are no longer used "
+        "(regimes come from the fitted gas–output relation)"]
+    assert p.magma_threshold == 0.2 and "gas_factor" not in p.parameters() and "ratio_low" not in p.parameters()
+    with pytest.warns(SettingNotUsedWarning, match=r"\[regimes\] ratio_high is no longer used"):
+        project_from_dict({"regimes": {"ratio_high": "anything"}}, "p.toml")  # unused: its value is not checked
+    with warnings.catch_warnings():
+        warnings.simplefilter("error")  # the demo project file carries no retired key
+        load_project(REPO / "demo_series" / "velmarra.toml")

@@ -66,12 +66,11 @@ import numpy as np
 import pandas as pd
 from scipy import stats
 
+from degas.analysis.robust import MAD_TO_SD
 from degas.errors import DegasError, NotEnoughDataError
 from degas.grid import contiguous_runs, grid_for, nominal_interval, resample, to_timedelta
 from degas.model import TimeSeries
 
-#: Scale factor from MAD to the standard deviation of a normal variable, 1/Φ⁻¹(3/4).
-MAD_TO_SD = 1.4826
 #: Default transform for each kind (event-rate quantities are detected as counts, see _default_transform).
 DEFAULT_TRANSFORMS: dict[str, str] = {
     "gas_flux": "log",

@@ -187,11 +187,18 @@ def block_length(resid: np.ndarray, *, minimum: int = 7) -> tuple[int, float]:
     return max(minimum, 2 * (len(acf) - 1)), phi
 
 
+def block_starts(n: int, block: int, n_boot: int, rng: np.random.Generator) -> np.ndarray:
+    """Moving-block bootstrap (Künsch 1989) block starts, shape (n_boot, ceil(n / block)): for each replicate,
+    enough blocks of ``block`` consecutive bins (1 <= block <= n), drawn with replacement from the n - block + 1
+    possible starts. The one draw behind :func:`block_indices`, ``xcorr``'s weights and ``stretch_lags``."""
+    return rng.integers(0, n - block + 1, size=(n_boot, int(np.ceil(n / block))))
+
+
 def block_indices(n: int, block: int, n_boot: int, rng: np.random.Generator) -> np.ndarray:
-    """Moving-block bootstrap (Künsch 1989) index arrays, shape (n_boot, n)."""
+    """Moving-block bootstrap (Künsch 1989) index arrays, shape (n_boot, n): the blocks of
+    :func:`block_starts` laid end to end and cut to n."""
     block = max(1, min(block, n))
-    n_blocks = int(np.ceil(n / block))
-    starts = rng.integers(0, n - block + 1, size=(n_boot, n_blocks))
+    starts = block_starts(n, block, n_boot, rng)
     idx = (starts[:, :, None] + np.arange(block)[None, None, :]).reshape(n_boot, -1)
     return idx[:, :n]
 

@@ -26,12 +26,11 @@ import numpy as np
 import pandas as pd
 from scipy import stats
 
+from degas.analysis.robust import MAD_TO_SD
 from degas.errors import DegasError
 from degas.grid import event_counts, make_grid, resample
 from degas.model import EVENT_CLASSES, EventCatalog, TimeSeries
 from degas.units import conversion_factor
-
-MAD_TO_SIGMA = 1.4826
 
 
 @dataclass(frozen=True)
@@ -128,7 +127,7 @@ def robust_z(window: np.ndarray, baseline: np.ndarray) -> float:
     mad = np.median(np.abs(b - np.median(b)))
     if mad == 0:
         return float("nan")
-    return float((np.median(w) - np.median(b)) / (MAD_TO_SIGMA * mad))
+    return float((np.median(w) - np.median(b)) / (MAD_TO_SD * mad))
 
 
 @dataclass(frozen=True)

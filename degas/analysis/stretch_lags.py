@@ -30,8 +30,10 @@ from dataclasses import dataclass, field
 
 import numpy as np
 import pandas as pd
+import scipy.fft as sfft
 
-from degas.analysis.relation import block_length
+from degas.analysis.relation import block_length, block_starts
+from degas.analysis.surrogates import gapped_amplitudes, iter_phase_spectra
 from degas.errors import NotEnoughDataError
 
 DAY = pd.Timedelta("1D")
@@ -126,9 +128,10 @@ def stretch_lags(
     magma_segment_id : optional segments of the output on its own time axis: its means are removed per segment
         before the fit and bins with -1 never enter a pair (e.g. -1 where the output is inactive, so that the
         days after a stretch's end cannot pull the lag). Default: the output as it is, every bin usable.
-    n_surrogates : phase-randomised surrogates of the output (Theiler et al. 1992; generated on the full grid
-        with missing days set to its mean, and the gaps re-imposed) for the p-value of the
-        largest correlation over all lags searched (0: no p-value).
+    n_surrogates : phase-randomised surrogates of the output (Theiler et al. 1992) for the p-value of the
+        largest correlation over all lags searched (0: no p-value): generated on the full grid from the
+        gap-corrected spectrum (Parzen 1963; :func:`degas.analysis.surrogates.gapped_amplitudes`) and the
+        output's gaps re-imposed, not with gaps set to the mean (which whitens the surrogates).
     max_lag : lag search range (±). n_boot : block-bootstrap replicates (0: no interval).
     """
     step = pd.Timedelta(gas.index[1] - gas.index[0]) if len(gas) > 1 else DAY
@@ -174,16 +177,15 @@ def stretch_lags(
         raise NotEnoughDataError("magma output does not vary inside the selected segments: no lag can be measured")
     p_value = np.nan
     if n_surrogates > 0:
+        # phase surrogates of the output (Theiler et al. 1992) on the full grid from its gap-corrected spectrum
+        # (Parzen 1963, degas.analysis.surrogates.gapped_amplitudes), the output's gaps re-imposed; the gas is
+        # left as observed, so every surrogate keeps the observed pair structure (as in xcorr and coupling)
         rng = np.random.default_rng(None if seed is None else seed + 1)
-        qm = np.where(np.isfinite(qd), qd, np.nan)
-        qm = qm - np.nanmean(qm)
-        spec = np.fft.rfft(np.where(np.isfinite(qm), qm, 0.0))
-        ph = rng.uniform(0, 2 * np.pi, size=(n_surrogates, len(spec)))
-        ph[:, 0] = 0.0
-        if n % 2 == 0:
-            ph[:, -1] = 0.0
-        sur = np.fft.irfft(spec[None, :] * np.exp(1j * ph), n=n, axis=1)
-        sur[:, ~np.isfinite(qd)] = np.nan
+        qok = np.isfinite(qd)
+        amp = gapped_amplitudes(qd)
+        sur = np.vstack([sfft.irfft(z, n=n, axis=1, workers=1)
+                         for z in iter_phase_spectra(qd, n_surrogates, seed=rng, amplitudes=amp)])
+        sur[:, ~qok] = np.nan
         # sums per surrogate, group and lag, in chunks of surrogates so memory stays O(m·lags) (issue 12)
         memberf = member.astype(float)
         jc = np.clip(j, 0, n - 1)
@@ -204,8 +206,7 @@ def stretch_lags(
     if n_boot > 0:
         # moving blocks (Künsch 1989) summed through cumulative sums per group: ceil(m / block) whole blocks
         rng = np.random.default_rng(seed)
-        n_blocks = int(np.ceil(len(pos) / block))
-        starts = rng.integers(0, len(pos) - block + 1, size=(n_boot, n_blocks))
+        starts = block_starts(len(pos), block, n_boot, rng)
         cs = np.concatenate([np.zeros((n_grp, 1, len(lags), 6)),
                              np.cumsum(member[:, :, None, None] * parts[None], axis=1)], axis=1)
         # each replicate's sum = Σ over its chosen starts of one block's sums: a count per start and one product,

@@ -16,6 +16,7 @@ from dataclasses import dataclass, field
 import numpy as np
 import pandas as pd
 
+from degas.analysis.robust import MAD_TO_SD
 from degas.errors import DegasError, NotEnoughDataError
 
 
@@ -70,7 +71,7 @@ def detect_slope_changes(volume, *, penalty: float | None = None, min_surveys: i
         notes.append(f"σ = median stated survey uncertainty, {sigma:.3g} m³")
     else:
         d2 = np.diff(v, 2)
-        sigma = float(1.482602218505602 * np.median(np.abs(d2 - np.median(d2))) / np.sqrt(6.0)) or float(np.std(v))
+        sigma = float(MAD_TO_SD * np.median(np.abs(d2 - np.median(d2))) / np.sqrt(6.0)) or float(np.std(v))
         notes.append(f"σ = robust scale of second differences, {sigma:.3g} m³ (no survey uncertainty given)")
     pen = 3.0 * np.log(n) * sigma**2 if penalty is None else float(penalty)
     signal = np.column_stack([v, np.ones(n), np.asarray(days, dtype=float)])

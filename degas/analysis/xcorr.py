@@ -47,7 +47,6 @@ aligned pairs (the same resampled times for every lag).
 
 from __future__ import annotations
 
-import math
 from dataclasses import dataclass, field
 
 import numpy as np
@@ -56,6 +55,7 @@ import scipy.fft as sfft
 from numpy.lib.stride_tricks import sliding_window_view
 
 from degas.analysis._lagsums import LagSums
+from degas.analysis.relation import block_indices
 from degas.analysis.surrogates import SURROGATE_METHODS, gapped_amplitudes, iter_phase_spectra, iter_surrogates
 from degas.errors import DegasError, NotEnoughDataError
 from degas.grid import contiguous_runs
@@ -613,10 +613,9 @@ def surrogate_test(
 
 
 def _bootstrap_weights(n: int, block: int, count: int, rng: np.random.Generator) -> np.ndarray:
-    """Moving-block bootstrap multiplicities (count, n): blocks of ``block`` bins drawn with replacement."""
-    nb = math.ceil(n / block)
-    starts = rng.integers(0, n - block + 1, size=(count, nb))
-    idx = (starts[:, :, None] + np.arange(block)[None, None, :]).reshape(count, -1)[:, :n]
+    """Moving-block bootstrap multiplicities (count, n): how often each bin enters each replicate of
+    :func:`degas.analysis.relation.block_indices` (blocks of ``block`` bins drawn with replacement)."""
+    idx = block_indices(n, block, count, rng)
     flat = (idx + (np.arange(count) * n)[:, None]).ravel()
     return np.bincount(flat, minlength=count * n).reshape(count, n).astype(float)
 

@@ -2,10 +2,12 @@
 
 from __future__ import annotations
 
+import warnings
+
 import typer
 from rich.console import Console
 
-from degas.errors import DegasError
+from degas.errors import DegasError, SettingNotUsedWarning
 
 app = typer.Typer(
     name="degas",
@@ -19,7 +21,29 @@ err_console = Console(stderr=True, highlight=False, soft_wrap=True)
 
 
 def run(argv: list[str] | None = None) -> int:
-    """Run the app; DegasError becomes a one-line message and exit code 2, never a traceback."""
+    """Run the app; DegasError becomes a one-line message and exit code 2, never a traceback.
+
+    A :class:`~degas.errors.SettingNotUsedWarning` (e.g. a retired project key) is printed as one line
+    ``degas: note: …`` on standard error, once per command even when a file is read twice; other warnings
+    keep Python's own display.
+    """
+    with warnings.catch_warnings():
+        warnings.simplefilter("always", SettingNotUsedWarning)
+        shown, said = warnings.showwarning, set()
+
+        def note(message, category, filename, lineno, file=None, line=None):
+            if issubclass(category, SettingNotUsedWarning):
+                if str(message) not in said:
+                    said.add(str(message))
+                    err_console.print(f"degas: note: {one_line(str(message))}", markup=False)
+            else:
+                shown(message, category, filename, lineno, file, line)
+
+        warnings.showwarning = note
+        return _run(argv)
+
+
+def _run(argv: list[str] | None) -> int:
     try:
         code = app(args=argv, prog_name="degas", standalone_mode=False)
         return code if isinstance(code, int) else 0

@@ -15,6 +15,15 @@ def _pulses(rng, n, width=3.0):
     return x / x.std()
 
 
+def _ar1(rng, n, phi=0.5):
+    """AR(1) noise e(t) = phi·e(t - 1) + N(0, 1), drawn sample by sample."""
+    e = np.empty(n)
+    e[0] = rng.standard_normal()
+    for j in range(1, n):
+        e[j] = phi * e[j - 1] + rng.standard_normal()
+    return e
+
+
 def _pair(seed=0, lag=4, n=400, step_at=200):
     rng = np.random.default_rng(seed)
     idx = pd.date_range("2042-01-01", periods=n, freq="D", tz="UTC")
@@ -46,27 +55,54 @@ def test_regime_step_does_not_make_the_correlation():
     assert res.step_share[0] > 0.9  # the step carries the gas variance: a whole-record CCF would be all step
 
 
-def test_surrogate_p_value_keeps_its_size_with_gaps():
-    """Null pairs (independent AR(1) gas, smooth output), 25 % of gas days missing: the share of p < 0.05 stays
-    at or below the nominal 5 % (+ the binomial allowance of 200 pairs: 5 % + 2·1.5 %). Surrogates: phase
-    randomisation (Theiler et al. 1992) generated on the full grid with the gaps re-imposed."""
-    rng = np.random.default_rng(123)
+def _null_rate(seed: int, pair, **kw) -> float:
+    """Share of p < 0.05 over 200 null pairs of 300 days: ``pair(rng, n)`` draws (gas, output, output segments)."""
+    rng = np.random.default_rng(seed)
     n = 300
     idx = pd.date_range("2045-01-01", periods=n, freq="D", tz="UTC")
     ps = []
     for i in range(200):
-        q = 2 + 0.6 * _pulses(rng, n, 4.0)
-        e = np.empty(n)
-        e[0] = rng.standard_normal()
-        for j in range(1, n):
-            e[j] = 0.5 * e[j - 1] + rng.standard_normal()
-        g = 10 + e
-        g[rng.random(n) < 0.25] = np.nan
+        g, q, off = pair(rng, n)
         r = stretch_lags(pd.Series(g, idx), pd.Series(q, idx), np.zeros(n, int), np.ones(n, bool), n_boot=0,
-                         n_surrogates=99, seed=i)
+                         n_surrogates=99, seed=i, magma_segment_id=off, **kw)
         ps.append(r.p_value)
-    rate = float(np.mean(np.array(ps) < 0.05))
+    return float(np.mean(np.array(ps) < 0.05))
+
+
+def test_surrogate_p_value_keeps_its_size_with_gaps():
+    """Null pairs (independent AR(1) gas, smooth output), 25 % of gas days missing: the share of p < 0.05 stays
+    at or below the nominal 5 % (+ the binomial allowance of 200 pairs: 5 % + 2·1.5 %). Surrogates: phase
+    randomisation (Theiler et al. 1992) generated on the full grid with the gaps re-imposed."""
+
+    def pair(rng, n):
+        q = 2 + 0.6 * _pulses(rng, n, 4.0)
+        g = 10 + _ar1(rng, n)
+        g[rng.random(n) < 0.25] = np.nan
+        return g, q, None
+
+    rate = _null_rate(123, pair)
     print(f"\nstretch-lag surrogate test: false-alarm rate {rate:.3f} at 5 % over 200 null pairs with 25 % gaps")
+    assert rate <= 0.08
+
+
+def test_surrogate_p_value_keeps_its_size_with_output_gaps():
+    """Null pairs as above, now with the gaps in the *output*: 20 % of its days missing and two long stretches
+    marked inactive (-1, taken out of every pair) as the regime run does; lags ±7 d. The output's surrogates
+    come from its gap-corrected spectrum (Parzen 1963) with the gaps re-imposed (degas.analysis.surrogates);
+    the share of p < 0.05 stays at or below 5 % + 2·1.5 % (binomial allowance of 200 pairs)."""
+
+    def pair(rng, n):
+        q = 2 + 0.6 * _pulses(rng, n, 4.0)
+        q[rng.random(n) < 0.2] = np.nan
+        g = 10 + _ar1(rng, n)
+        off = np.zeros(n, int)
+        a, b = rng.integers(0, 100), rng.integers(150, 220)
+        off[a:a + 50] = -1
+        off[b:b + 60] = -1
+        return g, q, off
+
+    rate = _null_rate(321, pair, max_lag="7D")
+    print(f"\nstretch-lag surrogate test: false-alarm rate {rate:.3f} at 5 % over 200 null pairs with output gaps")
     assert rate <= 0.08
 
 
