@@ -100,9 +100,11 @@ def test_typed_values_when_the_inclusions_are_not_used(archive):
 
 def test_budget_command_with_project_prints_the_verdicts_petrology(archive, tmp_path, capsys):
     import json
+    import re
 
     from degas.cli import main  # noqa: F401  (registers every command)
     from degas.cli._app import run
+    from degas.project import load_project
 
     proj = tmp_path / "p.toml"
     proj.write_text("[analysis]\nbootstrap = 50\nsurrogates = 50\n[petrology]\ns_melt_inclusion_ppm = 3000\n"
@@ -111,7 +113,13 @@ def test_budget_command_with_project_prints_the_verdicts_petrology(archive, tmp_
     out = tmp_path / "b.json"
     assert run(["budget", str(archive.root), "--project", str(proj), "--json", str(out)]) == 0
     text = capsys.readouterr().out
-    assert "4.052 kg per m³ DRE, from 5 inclusion and 4 matrix-glass S analyses" in text
+    line = re.search(r"4\.052 kg per m³ DRE \(95 % ([\d.]+)–([\d.]+)\), from 5 inclusion and 4 matrix-glass S "
+                     r"analyses", text)
+    assert line, text
+    # the interval is the verdict's own (the report's), not a second draw
+    b = _run(archive, load_project(proj))
+    lo, hi = b.regimes.relation.petrological_k_ci
+    assert (float(line[1]), float(line[2])) == (float(f"{lo:.3g}"), float(f"{hi:.3g}"))
     seg = json.loads(out.read_text())["segments"][-1]
     assert seg["expected_so2_kg"] / seg["dre_volume_both_m3"] == pytest.approx(DEVINE_K, rel=1e-4)
     assert np.isfinite(seg["excess_factor"])

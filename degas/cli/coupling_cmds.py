@@ -416,8 +416,11 @@ def budget(
             raise DegasError("; ".join(b.skipped) or "the budget could not be computed")
         res, tab, petro = b.budget, b.aligned, b.budget.petrology  # the verdict's petrology too (one per run)
         title = f"Gas budget: {', '.join(b.roles['gas'])} vs {b.roles['magma']} (segments: the regimes)"
-        if petro is not None:
-            console.print(f"petrological SO2 (Devine et al. 1984): {petro.so2_per_m3:.4g} kg per m³ DRE, "
+        if petro is not None:  # the verdict's expectation and interval, as the report prints them
+            from degas.analysis.relation import petrological_expectation
+
+            mid, (lo, hi) = petrological_expectation(petro, seed=b.project.seed)
+            console.print(f"petrological SO2 (Devine et al. 1984): {mid:.4g} kg per m³ DRE (95 % {lo:.3g}–{hi:.3g}), "
                           f"{b.petrology.label}", markup=False)
         g = tab.series("gas")
     else:
